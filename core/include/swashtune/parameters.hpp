@@ -1,0 +1,123 @@
+// The one registry of every model parameter and run setting: key, symbol,
+// unit, default, valid range and meaning. The scenario loader, the command
+// line, the desktop editor and the docs all read it; nothing repeats it.
+#pragma once
+
+#include <optional>
+#include <string>
+#include <string_view>
+#include <vector>
+
+namespace swashtune {
+
+// Model parameters in the units of model.md's table: SI, except the pump
+// speed, which is in rev/min. Values come from the registry's defaults
+// (see default_parameters()); the zero initialisers only keep the type trivial.
+struct ModelParameters {
+  // fluid
+  double density = 0;
+  double bulk_modulus = 0;
+  double air_fraction = 0;
+  double polytropic_index = 0;
+  // pump
+  double displacement = 0;  // m^3/rev at full stroke
+  double speed = 0;         // rev/min
+  double max_swash_angle = 0;
+  double leakage_coefficient = 0;
+  double swash_inertia = 0;
+  double swash_damping = 0;
+  double pressure_moment = 0;
+  // bias spring
+  double bias_rate = 0;
+  double bias_force_at_full_stroke = 0;
+  double bias_arm = 0;
+  // control piston
+  double control_piston_diameter = 0;
+  double control_piston_arm = 0;
+  double control_dead_volume = 0;
+  // compensator
+  double setting = 0;
+  double spool_diameter = 0;
+  double spool_spring_rate = 0;
+  double spool_mass = 0;
+  double spool_damping = 0;
+  double spool_travel = 0;
+  double port_width = 0;
+  double underlap = 0;
+  double spool_discharge_coefficient = 0;
+  bool flow_forces = true;
+  double bleed_diameter = 0;
+  // discharge line
+  double line_volume = 0;
+  double tank_pressure = 0;
+  // load needle valve
+  double valve_area = 0;
+  double valve_discharge_coefficient = 0;
+  double opening = 0;
+  // numerics of the orifice law
+  double transition_pressure = 0;
+};
+
+// Settings of a run that are not physics.
+struct RunSettings {
+  double duration = 0;         // s
+  double sample_interval = 0;  // s
+  double rtol = 0;
+  double atol = 0;             // in units of each state's scale (see model.hpp)
+  double max_step = 0;         // s
+  double settle_time_limit = 0;  // s of simulated time allowed to reach the initial steady state
+};
+
+// How one registry entry is bounded. Bounds are inclusive unless marked open.
+struct Range {
+  double min;
+  double max;
+  bool min_open = false;
+  bool max_open = false;
+  bool contains(double v) const {
+    return (min_open ? v > min : v >= min) && (max_open ? v < max : v <= max);
+  }
+  std::string describe(std::string_view unit) const;
+};
+
+template <class Owner>
+struct FieldSpec {
+  std::string_view key;      // "compensator.setting", as in scenario files
+  std::string_view symbol;   // as in model.md
+  std::string_view unit;     // unit of the stored value ("-" for plain numbers)
+  double default_value;
+  Range range;
+  std::string_view meaning;  // one line, for the editor and the docs
+  std::string_view metric_unit;  // preferred display units
+  std::string_view us_unit;
+  double Owner::*field = nullptr;
+  bool Owner::*flag = nullptr;  // set instead of field for on/off switches
+
+  bool is_flag() const { return flag != nullptr; }
+  double get(const Owner& o) const { return is_flag() ? (o.*flag ? 1.0 : 0.0) : o.*field; }
+  void set(Owner& o, double v) const {
+    if (is_flag())
+      o.*flag = v != 0.0;
+    else
+      o.*field = v;
+  }
+};
+
+using ParameterSpec = FieldSpec<ModelParameters>;
+using SettingSpec = FieldSpec<RunSettings>;
+
+const std::vector<ParameterSpec>& parameter_registry();
+const std::vector<SettingSpec>& setting_registry();
+
+// Looks a key up ("pump.speed"); nullptr when there is no such key.
+const ParameterSpec* find_parameter(std::string_view key);
+const SettingSpec* find_setting(std::string_view key);
+
+ModelParameters default_parameters();
+RunSettings default_settings();
+
+// Checks relations between parameters that single ranges cannot express.
+// Returns one message per violation; empty when consistent.
+std::vector<std::string> check_consistency(const ModelParameters& p);
+
+}  // namespace swashtune

@@ -1,0 +1,142 @@
+#include "swashtune/parameters.hpp"
+
+#include <cmath>
+#include <limits>
+#include <sstream>
+
+namespace swashtune {
+namespace {
+
+constexpr double inf = std::numeric_limits<double>::infinity();
+constexpr double deg = 3.14159265358979323846 / 180.0;
+
+// Ranges are physical limits (or the model's own validity), generous enough
+// for any industrial pump but tight enough to catch a value given in the
+// wrong unit (a line volume of 1000 m^3, an opening of 50).
+constexpr Range positive(double max) { return Range{0.0, max, true, false}; }
+constexpr Range non_negative(double max) { return Range{0.0, max, false, false}; }
+
+using P = ModelParameters;
+
+std::vector<ParameterSpec> make_parameters() {
+  // clang-format off
+  return {
+    {"fluid.density", "rho", "kg/m^3", 870.0, Range{500.0, 2000.0}, "density of the oil", "kg/m^3", "lb/in^3", &P::density},
+    {"fluid.bulk_modulus", "beta_oil", "Pa", 1.6e9, Range{1e8, 5e9}, "bulk modulus of the air-free oil", "GPa", "psi", &P::bulk_modulus},
+    {"fluid.air_fraction", "x_a", "-", 0.0, Range{0.0, 0.5, false, true}, "volume fraction of undissolved air at atmospheric pressure", "%", "%", &P::air_fraction},
+    {"fluid.polytropic_index", "n", "-", 1.4, Range{1.0, 1.4}, "polytropic index of the air (1 isothermal, 1.4 adiabatic)", "-", "-", &P::polytropic_index},
+
+    {"pump.displacement", "D_max", "m^3/rev", 45e-6, positive(1e-2), "displacement at full stroke", "cm^3/rev", "in^3/rev", &P::displacement},
+    {"pump.speed", "N", "rev/min", 1800.0, non_negative(2e4), "shaft speed", "rev/min", "rev/min", &P::speed},
+    {"pump.max_swash_angle", "a_max", "rad", 17.0 * deg, Range{0.5 * deg, 30.0 * deg}, "swash angle at full stroke", "deg", "deg", &P::max_swash_angle},
+    {"pump.leakage_coefficient", "K_leak", "m^3/(s*Pa)", 1.29e-12, non_negative(1e-9), "internal leakage per unit discharge pressure", "L/min/bar", "gpm/psi", &P::leakage_coefficient},
+    {"pump.swash_inertia", "J", "kg*m^2", 0.003, positive(10.0), "moment of inertia of the swashplate", "kg*m^2", "lb*in^2", &P::swash_inertia},
+    {"pump.swash_damping", "c_a", "N*m*s/rad", 1.0, non_negative(1e5), "viscous damping of the swashplate", "N*m*s/rad", "lbf*in*s/rad", &P::swash_damping},
+    {"pump.pressure_moment", "K_carry", "N*m/Pa", 0.0, Range{-1e-4, 1e-4}, "swash moment per unit discharge pressure (+ destrokes)", "N*m/bar", "lbf*in/psi", &P::pressure_moment},
+
+    {"bias_spring.rate", "k_b", "N/m", 20e3, non_negative(1e8), "rate of the bias spring", "N/mm", "lbf/in", &P::bias_rate},
+    {"bias_spring.force_at_full_stroke", "F_b,full", "N", 400.0, non_negative(1e6), "bias spring force at full stroke", "N", "lbf", &P::bias_force_at_full_stroke},
+    {"bias_spring.arm", "r_b", "m", 0.05, positive(1.0), "lever arm of the bias spring on the swashplate", "mm", "in", &P::bias_arm},
+
+    {"control_piston.diameter", "d_c", "m", 0.018, positive(0.5), "control piston diameter", "mm", "in", &P::control_piston_diameter},
+    {"control_piston.arm", "r_c", "m", 0.05, positive(1.0), "lever arm of the control piston on the swashplate", "mm", "in", &P::control_piston_arm},
+    {"control_piston.dead_volume", "V_c0", "m^3", 20e-6, positive(1e-2), "control chamber volume at full stroke", "cm^3", "in^3", &P::control_dead_volume},
+
+    {"compensator.setting", "p_set", "Pa", 210e5, non_negative(1e9), "compensator setting (spring preload over the sensing area)", "bar", "psi", &P::setting},
+    {"compensator.spool_diameter", "d_s", "m", 0.006, positive(0.1), "diameter of the sensing area", "mm", "in", &P::spool_diameter},
+    {"compensator.spring_rate", "k_s", "N/m", 50e3, non_negative(1e9), "rate of the compensator spring", "N/mm", "lbf/in", &P::spool_spring_rate},
+    {"compensator.spool_mass", "m_s", "kg", 0.01, positive(10.0), "moving mass of the spool", "g", "lb", &P::spool_mass},
+    {"compensator.spool_damping", "b_s", "N*s/m", 20.0, non_negative(1e6), "viscous damping of the spool", "N*s/m", "lbf*s/in", &P::spool_damping},
+    {"compensator.spool_travel", "x_max", "m", 1.0e-3, positive(0.05), "spool travel either side of centre", "mm", "in", &P::spool_travel},
+    {"compensator.port_width", "w", "m", 0.006, positive(0.5), "metering area gradient (port width)", "mm", "in", &P::port_width},
+    {"compensator.underlap", "u", "m", 1.0e-5, Range{-0.05, 0.05}, "underlap of the metering edges (negative: overlap)", "mm", "in", &P::underlap},
+    {"compensator.discharge_coefficient", "Cd", "-", 0.7, Range{0.0, 1.0, true, false}, "discharge coefficient of the metering edges", "-", "-", &P::spool_discharge_coefficient},
+    {"compensator.flow_forces", "", "-", 1.0, Range{0.0, 1.0}, "include steady flow forces on the spool", "-", "-", nullptr, &P::flow_forces},
+    {"compensator.bleed_orifice", "d_b", "m", 0.4e-3, non_negative(0.05), "diameter of the fixed bleed from control chamber to case (0: none)", "mm", "in", &P::bleed_diameter},
+
+    {"line.volume", "V_d", "m^3", 1.0e-3, positive(10.0), "oil volume between pump and load valve", "L", "in^3", &P::line_volume},
+    {"line.tank_pressure", "p_t", "Pa", 0.0, non_negative(1e7), "case and tank pressure", "bar", "psi", &P::tank_pressure},
+
+    {"load.valve_area", "A_v", "m^2", 56.9e-6, positive(1.0), "flow area of the load needle valve fully open", "mm^2", "in^2", &P::valve_area},
+    {"load.discharge_coefficient", "Cd_v", "-", 0.7, Range{0.0, 1.0, true, false}, "discharge coefficient of the load valve", "-", "-", &P::valve_discharge_coefficient},
+    {"load.opening", "s", "-", 1.0, Range{0.0, 1.0}, "load valve opening (0 closed, 1 fully open)", "-", "-", &P::opening},
+
+    {"solver.transition_pressure", "dp_tr", "Pa", 1e4, Range{1.0, 1e6}, "pressure drop where orifice flow turns laminar", "bar", "psi", &P::transition_pressure},
+  };
+  // clang-format on
+}
+
+using R = RunSettings;
+
+std::vector<SettingSpec> make_settings() {
+  // clang-format off
+  return {
+    {"scenario.duration", "", "s", 1.0, Range{0.0, 1e6, true, false}, "simulated time", "s", "s", &R::duration},
+    {"scenario.sample_interval", "", "s", 0.5e-3, Range{1e-7, 10.0}, "spacing of the written trace", "ms", "ms", &R::sample_interval},
+    {"scenario.settle_time_limit", "", "s", 5.0, Range{0.0, 1e3}, "simulated time allowed for reaching the initial steady state", "s", "s", &R::settle_time_limit},
+    {"solver.rtol", "", "-", 1e-6, Range{1e-12, 1e-2}, "relative tolerance of the integrator", "-", "-", &R::rtol},
+    {"solver.atol", "", "-", 1e-6, Range{1e-14, 1e-2}, "absolute tolerance, as a fraction of each state's scale", "-", "-", &R::atol},
+    {"solver.max_step", "", "s", 1e-3, Range{1e-7, 1.0}, "longest step the integrator may take", "ms", "ms", &R::max_step},
+  };
+  // clang-format on
+}
+
+template <class Spec>
+const Spec* find_in(const std::vector<Spec>& registry, std::string_view key) {
+  for (const Spec& s : registry)
+    if (s.key == key) return &s;
+  return nullptr;
+}
+
+template <class Owner, class Spec>
+Owner defaults_of(const std::vector<Spec>& registry) {
+  Owner o{};
+  for (const Spec& s : registry) s.set(o, s.default_value);
+  return o;
+}
+
+std::string number(double v) {
+  std::ostringstream out;
+  out << v;
+  return out.str();
+}
+
+}  // namespace
+
+std::string Range::describe(std::string_view unit) const {
+  const std::string u = (unit == "-" || unit.empty()) ? "" : " " + std::string(unit);
+  std::string lo = (min_open ? "> " : ">= ") + number(min) + u;
+  std::string hi = (max_open ? "< " : "<= ") + number(max) + u;
+  if (std::isinf(max)) return lo;
+  return lo + " and " + hi;
+}
+
+const std::vector<ParameterSpec>& parameter_registry() {
+  static const std::vector<ParameterSpec> registry = make_parameters();
+  return registry;
+}
+
+const std::vector<SettingSpec>& setting_registry() {
+  static const std::vector<SettingSpec> registry = make_settings();
+  return registry;
+}
+
+const ParameterSpec* find_parameter(std::string_view key) { return find_in(parameter_registry(), key); }
+const SettingSpec* find_setting(std::string_view key) { return find_in(setting_registry(), key); }
+
+ModelParameters default_parameters() { return defaults_of<ModelParameters>(parameter_registry()); }
+RunSettings default_settings() { return defaults_of<RunSettings>(setting_registry()); }
+
+std::vector<std::string> check_consistency(const ModelParameters& p) {
+  std::vector<std::string> problems;
+  if (std::abs(p.underlap) >= p.spool_travel)
+    problems.push_back("compensator.underlap (" + number(p.underlap) +
+                       " m) must be smaller in size than compensator.spool_travel (" +
+                       number(p.spool_travel) + " m)");
+  if (p.tank_pressure >= p.setting && p.setting > 0)
+    problems.push_back("line.tank_pressure (" + number(p.tank_pressure) +
+                       " Pa) must be below compensator.setting (" + number(p.setting) + " Pa)");
+  return problems;
+}
+
+}  // namespace swashtune
