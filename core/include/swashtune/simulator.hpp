@@ -1,0 +1,122 @@
+// Runs the model through time: applies the schedule of parameter events,
+// handles the hard end stops as located events, samples the trace on a fixed
+// grid from the integrator's dense output, and counts the solver's work.
+// It can advance in pieces, which is how a live session drives it.
+#pragma once
+
+#include <functional>
+#include <memory>
+#include <stdexcept>
+#include <string>
+#include <vector>
+
+#include "swashtune/model.hpp"
+#include "swashtune/scenario.hpp"
+#include "swashtune/schedule.hpp"
+
+namespace swashtune {
+
+struct SolverStats {
+  long long steps = 0;           // accepted steps
+  long long rejected_steps = 0;
+  long long rhs_evaluations = 0;
+  long long jacobian_evaluations = 0;
+  long long stop_events = 0;     // end-stop contacts and releases located
+  double wall_time_s = 0.0;
+};
+
+// One row of the trace: the state plus the flows a user wants to see.
+struct Sample {
+  double time = 0.0;
+  State x = State::Zero();
+  double pump_flow = 0.0;     // Q_g - Q_leak: what the pump delivers into the line
+  double load_flow = 0.0;     // through the load valve
+  double leakage_flow = 0.0;  // internal leakage
+  double control_flow = 0.0;  // Q_pc: taken by the compensator into the control chamber
+  double opening = 0.0;       // load valve opening
+  double setting = 0.0;       // compensator setting, Pa
+};
+
+Sample make_sample(double t, const State& x, const ModelParameters& p);
+
+class SolverError : public std::runtime_error {
+ public:
+  SolverError(double time, const std::string& why);
+  double time() const { return time_; }
+
+ private:
+  double time_;
+};
+
+struct InitialCondition {
+  State x = State::Zero();
+  StopModes modes;
+};
+
+// Full stroke at rest, the line at the pressure that pushes the full-stroke
+// flow through the load valve (or at the setting when the valve is shut).
+InitialCondition full_stroke_guess(const ModelParameters& p);
+
+// Normalisation of the states to order one for the error control, fixed at
+// the start of a run (see solver-notes.md).
+State state_scale(const ModelParameters& p);
+
+class Simulator {
+ public:
+  using SampleSink = std::function<void(const Sample&)>;
+  using StepObserver = std::function<void(double t, const State& x)>;
+
+  Simulator(const ModelParameters& initial, const RunSettings& settings, const InitialCondition& start,
+            double start_time = 0.0);
+  ~Simulator();
+  Simulator(const Simulator&) = delete;
+  Simulator& operator=(const Simulator&) = delete;
+
+  // Adds a parameter event; it may not start before the present time.
+  // Throws std::invalid_argument otherwise.
+  void add_event(const Event& event);
+
+  // Integrates up to t_end, handing every grid sample in the interval to the
+  // sink (the first call also emits the sample at the start time when it is
+  // on the grid). Throws SolverError when the integration fails.
+  void advance_to(double t_end, const SampleSink& sink);
+
+  // Called after every accepted step (and every located stop event).
+  void set_step_observer(StepObserver observer);
+
+  double time() const;
+  const State& state() const;
+  StopModes stop_modes() const;
+  ModelParameters parameters_now() const;
+  const Schedule& schedule() const;
+  const SolverStats& stats() const;
+
+ private:
+  struct Impl;
+  std::unique_ptr<Impl> impl_;
+};
+
+// Integrates from the full-stroke guess with the given parameters until the
+// state stops changing, to start a run from the steady operating point.
+struct SettledStart {
+  InitialCondition condition;
+  bool settled = false;        // false: still moving when the time limit ran out
+  double simulated_time = 0.0; // s needed (or spent)
+  SolverStats stats;
+};
+SettledStart settle_by_integration(const ModelParameters& p, const RunSettings& settings);
+
+// A whole run of a scenario: start from the settled state, apply every event,
+// keep the trace and the peak discharge pressure seen in each event window
+// (taken over every solver step, not only the samples).
+struct RunResult {
+  std::vector<Sample> trace;
+  SettledStart start;
+  SolverStats stats;                 // of the run itself, without the settling
+  double peak_discharge_pressure = 0.0;
+  std::vector<double> window_peaks;   // one per event, over [at, next event or end]
+  std::vector<double> window_minima;  // likewise, the lowest discharge pressure
+};
+RunResult run_scenario(const Scenario& scenario);
+
+}  // namespace swashtune

@@ -1,0 +1,557 @@
+#include "swashtune/simulator.hpp"
+
+#include <algorithm>
+#include <boost/numeric/odeint/stepper/rosenbrock4.hpp>
+#include <boost/numeric/odeint/stepper/rosenbrock4_controller.hpp>
+#include <chrono>
+#include <cmath>
+#include <limits>
+#include <optional>
+#include <sstream>
+#include <utility>
+
+namespace swashtune {
+namespace {
+
+namespace odeint = boost::numeric::odeint;
+namespace ublas = boost::numeric::ublas;
+using OdeVector = ublas::vector<double>;
+using OdeMatrix = ublas::matrix<double>;
+using Controller = odeint::rosenbrock4_controller<odeint::rosenbrock4<double>>;
+
+constexpr double infinity = std::numeric_limits<double>::infinity();
+
+std::string format_time(double t) {
+  std::ostringstream out;
+  out.precision(9);
+  out << t << " s";
+  return out.str();
+}
+
+// The model in states scaled to order one (z = x / scale), with the
+// parameters of one segment between schedule corners. Within a segment every
+// scheduled parameter is linear in time.
+class ScaledDynamics {
+ public:
+  ScaledDynamics(const Schedule& schedule, const State& scale, SolverStats& stats)
+      : schedule_(schedule), scale_(scale), stats_(stats), params_(schedule.initial()), derived_(params_) {}
+
+  void begin_segment(double t0, double t1, const StopModes& modes) {
+    modes_ = modes;
+    segment_start_ = t0;
+    ramps_.clear();
+    params_ = schedule_.at(t0);
+    if (std::isfinite(t1) && t1 > t0 && schedule_.varies_between(t0, t1)) {
+      // Slopes from the start and the midpoint, both strictly inside the
+      // segment's own linear piece (a step at t1 must not leak in).
+      const double tm = 0.5 * (t0 + t1);
+      const ModelParameters mid = schedule_.at(tm);
+      for (const ParameterSpec& spec : parameter_registry()) {
+        if (spec.is_flag()) continue;
+        const double v0 = spec.get(params_);
+        const double vm = spec.get(mid);
+        if (v0 != vm) ramps_.push_back(Ramp{&spec, v0, (vm - v0) / (tm - t0)});
+      }
+    }
+    derived_ = Derived(params_);
+    params_time_ = t0;
+  }
+
+  const StopModes& modes() const { return modes_; }
+  bool ramping() const { return !ramps_.empty(); }
+
+  const ModelParameters& params(double t) {
+    if (!ramps_.empty() && t != params_time_) {
+      for (const Ramp& r : ramps_) r.spec->set(params_, r.start + r.slope * (t - segment_start_));
+      derived_ = Derived(params_);
+      params_time_ = t;
+    }
+    return params_;
+  }
+  const Derived& derived(double t) {
+    params(t);
+    return derived_;
+  }
+
+  State physical(const OdeVector& z) const {
+    State x;
+    for (int i = 0; i < state::size; ++i) x[i] = z[i] * scale_[i];
+    return x;
+  }
+  void to_scaled(const State& x, OdeVector& z) const {
+    for (int i = 0; i < state::size; ++i) z[i] = x[i] / scale_[i];
+  }
+
+  State rates(double t, const State& x) {
+    ++stats_.rhs_evaluations;
+    const ModelParameters& p = params(t);
+    return derivatives<double>(p, derived_, modes_, x);
+  }
+
+  void rhs(const OdeVector& z, OdeVector& dz, double t) {
+    const State dx = rates(t, physical(z));
+    for (int i = 0; i < state::size; ++i) dz[i] = dx[i] / scale_[i];
+  }
+
+  void jacobian(const OdeVector& z, OdeMatrix& jac, double t, OdeVector& dfdt) {
+    ++stats_.jacobian_evaluations;
+    const State x = physical(z);
+    const ModelParameters& p = params(t);
+    const Jacobian j = swashtune::jacobian(p, derived_, modes_, x);
+    for (int r = 0; r < state::size; ++r)
+      for (int c = 0; c < state::size; ++c) jac(r, c) = j(r, c) * scale_[c] / scale_[r];
+    if (ramps_.empty()) {
+      for (int i = 0; i < state::size; ++i) dfdt[i] = 0.0;
+      return;
+    }
+    // Parameters are linear in t here, so a central difference is accurate.
+    const double h = 1e-7 * std::max(1e-3, std::abs(t));
+    const State up = rates(t + h, x);
+    const State down = rates(t - h, x);
+    params(t);
+    for (int i = 0; i < state::size; ++i) dfdt[i] = (up[i] - down[i]) / (2.0 * h) / scale_[i];
+  }
+
+ private:
+  struct Ramp {
+    const ParameterSpec* spec;
+    double start;
+    double slope;
+  };
+  const Schedule& schedule_;
+  State scale_;
+  SolverStats& stats_;
+  StopModes modes_;
+  double segment_start_ = 0.0;
+  std::vector<Ramp> ramps_;
+  ModelParameters params_;
+  Derived derived_;
+  double params_time_ = 0.0;
+};
+
+struct RhsFunctor {
+  ScaledDynamics* dynamics;
+  void operator()(const OdeVector& z, OdeVector& dz, double t) const { dynamics->rhs(z, dz, t); }
+};
+struct JacobianFunctor {
+  ScaledDynamics* dynamics;
+  void operator()(const OdeVector& z, OdeMatrix& jac, double t, OdeVector& dfdt) const {
+    dynamics->jacobian(z, jac, t, dfdt);
+  }
+};
+
+// Which coordinate a stop guard watches and what it decides.
+enum class Guard { swash_lower_hit, swash_upper_hit, swash_release, spool_lower_hit, spool_upper_hit, spool_release };
+
+}  // namespace
+
+Sample make_sample(double t, const State& x, const ModelParameters& p) {
+  const Flows f = flows(p, x);
+  Sample s;
+  s.time = t;
+  s.x = x;
+  s.pump_flow = f.geometric - f.leakage;
+  s.load_flow = f.load;
+  s.leakage_flow = f.leakage;
+  s.control_flow = f.to_control;
+  s.opening = p.opening;
+  s.setting = p.setting;
+  return s;
+}
+
+SolverError::SolverError(double time, const std::string& why)
+    : std::runtime_error("solver failed at t = " + format_time(time) + ": " + why), time_(time) {}
+
+State state_scale(const ModelParameters& p) {
+  const double pressure = std::max(p.setting, 1e6);
+  const double response_time = 0.01;  // s, a typical loop time constant
+  State s;
+  s << pressure, pressure, p.max_swash_angle, p.max_swash_angle / response_time, p.spool_travel,
+      p.spool_travel / response_time;
+  return s;
+}
+
+InitialCondition full_stroke_guess(const ModelParameters& p) {
+  const Derived d(p);
+  // Line pressure where the delivered full-stroke flow passes the valve
+  // (bisection: the valve flow grows and the delivery falls with pressure).
+  double line_pressure = p.setting;
+  if (p.opening * p.valve_area > 0.0) {
+    double lo = p.tank_pressure, hi = std::max(2.0 * p.setting, p.tank_pressure + 1e6);
+    auto excess = [&](double pd) {
+      return d.full_flow - p.leakage_coefficient * pd -
+             orifice_flow(p.valve_discharge_coefficient, p.opening * p.valve_area, pd - p.tank_pressure, p.density,
+                          p.transition_pressure);
+    };
+    if (excess(hi) < 0.0) {
+      for (int i = 0; i < 200; ++i) {
+        const double mid = 0.5 * (lo + hi);
+        (excess(mid) > 0.0 ? lo : hi) = mid;
+      }
+      line_pressure = std::min(0.5 * (lo + hi), p.setting);
+    }
+  }
+  InitialCondition ic;
+  ic.x.setZero();
+  ic.x[state::discharge_pressure] = line_pressure;
+  ic.x[state::control_pressure] = p.tank_pressure;
+  ic.x[state::swash_angle] = p.max_swash_angle;
+  ic.modes.swash = Stop::upper;
+  ic.modes.spool = Stop::free;
+  return ic;
+}
+
+struct Simulator::Impl {
+  Impl(const ModelParameters& initial, const RunSettings& s, const InitialCondition& start, double t0)
+      : settings(s),
+        schedule(initial),
+        scale(state_scale(initial)),
+        dynamics(schedule, scale, stats),
+        t(t0),
+        x(start.x),
+        modes(start.modes),
+        z_old(state::size),
+        z_new(state::size),
+        z_work(state::size),
+        next_sample(static_cast<long long>(std::ceil(t0 / s.sample_interval - 1e-9))) {
+    const ModelParameters& p = initial;
+    const Derived d(p);
+    // Contact thresholds: a penetration of 1e-9 of the travel counts as a
+    // hit; a release needs a force of 1e-8 of the loop's force scale, so a
+    // coordinate resting on a stop with no net force stays there.
+    swash_penetration = 1e-9 * p.max_swash_angle;
+    spool_penetration = 1e-9 * p.spool_travel;
+    swash_release_moment = 1e-8 * p.control_piston_arm * d.control_area * scale[state::discharge_pressure];
+    spool_release_force = 1e-8 * d.sensing_area * scale[state::discharge_pressure];
+    pin_held_coordinates();
+  }
+
+  RunSettings settings;
+  Schedule schedule;
+  State scale;
+  SolverStats stats;
+  ScaledDynamics dynamics;
+  std::optional<Controller> controller;  // rebuilt at every restart: no stale error history
+  double t;
+  State x;
+  StopModes modes;
+  OdeVector z_old, z_new, z_work;
+  double dt = 1e-6;
+  double step_start = 0.0, step_end = 0.0;
+  bool restart = true;
+  long long next_sample;
+  StepObserver observer;
+  double swash_penetration, spool_penetration, swash_release_moment, spool_release_force;
+
+  double sample_time(long long k) const { return static_cast<double>(k) * settings.sample_interval; }
+
+  void pin_held_coordinates() {
+    const ModelParameters& p = schedule.at(t);
+    if (modes.swash != Stop::free) {
+      x[state::swash_angle] = modes.swash == Stop::lower ? 0.0 : p.max_swash_angle;
+      x[state::swash_velocity] = 0.0;
+    }
+    if (modes.spool != Stop::free) {
+      x[state::spool_position] = modes.spool == Stop::lower ? -p.spool_travel : p.spool_travel;
+      x[state::spool_velocity] = 0.0;
+    }
+  }
+
+  // Value of a guard at state xs and time ts; the switch happens when it
+  // falls below zero.
+  double guard_value(Guard g, double ts, const State& xs) {
+    const ModelParameters& p = dynamics.params(ts);
+    const Derived& d = dynamics.derived(ts);
+    switch (g) {
+      case Guard::swash_lower_hit:
+        return xs[state::swash_angle] + 0.5 * swash_penetration;
+      case Guard::swash_upper_hit:
+        return p.max_swash_angle - xs[state::swash_angle] + 0.5 * swash_penetration;
+      case Guard::swash_release: {
+        const double moment = swash_static_moment<double>(p, d, xs);
+        const double away = modes.swash == Stop::lower ? moment : -moment;
+        return swash_release_moment - away;
+      }
+      case Guard::spool_lower_hit:
+        return xs[state::spool_position] + p.spool_travel + 0.5 * spool_penetration;
+      case Guard::spool_upper_hit:
+        return p.spool_travel - xs[state::spool_position] + 0.5 * spool_penetration;
+      case Guard::spool_release: {
+        const Flows f = flows<double>(p, d, xs);
+        const double force = spool_static_force<double>(p, d, f, xs);
+        const double away = modes.spool == Stop::lower ? force : -force;
+        return spool_release_force - away;
+      }
+    }
+    return 1.0;
+  }
+
+  std::vector<Guard> active_guards() const {
+    std::vector<Guard> guards;
+    if (modes.swash == Stop::free) {
+      guards.push_back(Guard::swash_lower_hit);
+      guards.push_back(Guard::swash_upper_hit);
+    } else {
+      guards.push_back(Guard::swash_release);
+    }
+    if (modes.spool == Stop::free) {
+      guards.push_back(Guard::spool_lower_hit);
+      guards.push_back(Guard::spool_upper_hit);
+    } else {
+      guards.push_back(Guard::spool_release);
+    }
+    return guards;
+  }
+
+  // Dense output inside the last accepted step [step_start, step_end].
+  State interpolate(double ts) {
+    controller->stepper().calc_state(ts, z_work, z_old, step_start, z_new, step_end);
+    return dynamics.physical(z_work);
+  }
+
+  // Earliest guard that switches within (t0, t1]: returns the time just past
+  // the switch (the right end of a tight bracket) and which guard it was.
+  std::pair<double, Guard> locate_switch(double t0, double t1, const State& x1, bool& found) {
+    found = false;
+    double best_time = t1;
+    Guard best = Guard::swash_lower_hit;
+    const State x0 = dynamics.physical(z_old);
+    for (Guard g : active_guards()) {
+      if (guard_value(g, t1, x1) >= 0.0) continue;
+      double lo = t0, hi = t1;
+      double g_lo = guard_value(g, t0, x0), g_hi = guard_value(g, t1, x1);
+      if (g_lo < 0.0) {
+        hi = t0;  // already past the threshold at the step's start
+      } else {
+        // Illinois variant of regula falsi on the dense output.
+        const double tolerance = std::max(1e-13, 1e-9 * (t1 - t0));
+        int side = 0;
+        for (int it = 0; it < 200 && hi - lo > tolerance; ++it) {
+          double tm = (lo * g_hi - hi * g_lo) / (g_hi - g_lo);
+          if (!(tm > lo && tm < hi)) tm = 0.5 * (lo + hi);
+          const double gm = guard_value(g, tm, interpolate(tm));
+          if (gm >= 0.0) {
+            lo = tm;
+            g_lo = gm;
+            if (side == -1) g_hi *= 0.5;
+            side = -1;
+          } else {
+            hi = tm;
+            g_hi = gm;
+            if (side == 1) g_lo *= 0.5;
+            side = 1;
+          }
+        }
+      }
+      if (!found || hi < best_time) {
+        best_time = hi;
+        best = g;
+        found = true;
+      }
+    }
+    return {best_time, best};
+  }
+
+  void apply_switch(Guard g) {
+    ++stats.stop_events;
+    const ModelParameters& p = dynamics.params(t);
+    const Derived& d = dynamics.derived(t);
+    auto settle_on = [&](Stop& mode, Stop stop, double position, int pos_index, int vel_index, double away_force,
+                         double threshold) {
+      x[pos_index] = position;
+      x[vel_index] = 0.0;
+      // Inelastic contact: it stays if the force holds it against the stop.
+      mode = away_force > threshold ? Stop::free : stop;
+    };
+    switch (g) {
+      case Guard::swash_lower_hit:
+      case Guard::swash_upper_hit: {
+        const bool lower = g == Guard::swash_lower_hit;
+        State xs = x;
+        xs[state::swash_angle] = lower ? 0.0 : p.max_swash_angle;
+        const double moment = swash_static_moment<double>(p, d, xs);
+        settle_on(modes.swash, lower ? Stop::lower : Stop::upper, xs[state::swash_angle], state::swash_angle,
+                  state::swash_velocity, lower ? moment : -moment, swash_release_moment);
+        break;
+      }
+      case Guard::spool_lower_hit:
+      case Guard::spool_upper_hit: {
+        const bool lower = g == Guard::spool_lower_hit;
+        State xs = x;
+        xs[state::spool_position] = lower ? -p.spool_travel : p.spool_travel;
+        const Flows f = flows<double>(p, d, xs);
+        const double force = spool_static_force<double>(p, d, f, xs);
+        settle_on(modes.spool, lower ? Stop::lower : Stop::upper, xs[state::spool_position], state::spool_position,
+                  state::spool_velocity, lower ? force : -force, spool_release_force);
+        break;
+      }
+      case Guard::swash_release:
+        modes.swash = Stop::free;
+        break;
+      case Guard::spool_release:
+        modes.spool = Stop::free;
+        break;
+    }
+  }
+
+  void emit_samples_until(double t_limit, bool dense, const SampleSink& sink) {
+    while (sample_time(next_sample) <= t_limit * (1.0 + 1e-14) + 1e-15) {
+      const double ts = sample_time(next_sample);
+      const State xs = dense ? interpolate(ts) : x;
+      if (sink) sink(make_sample(ts, xs, schedule.at(ts)));
+      ++next_sample;
+    }
+  }
+
+  void advance_to(double t_end, const SampleSink& sink) {
+    const auto wall_start = std::chrono::steady_clock::now();
+    if (t_end < t) t_end = t;
+    // Samples at the present time (the very first call).
+    emit_samples_until(t, false, sink);
+    int rejected_in_a_row = 0;
+    double segment_end = -infinity;
+    while (t < t_end) {
+      const double corner = schedule.next_corner_after(t);
+      const double stop_at = std::min(corner, t_end);
+      if (restart || stop_at != segment_end) {
+        dynamics.begin_segment(t, corner, modes);
+        segment_end = stop_at;
+      }
+      if (restart) {
+        controller.emplace(settings.atol, settings.rtol);
+        restart = false;
+      }
+      dynamics.to_scaled(x, z_old);
+      double step = std::min({dt, settings.max_step, stop_at - t});
+      double t_try = t;
+      const RhsFunctor rhs{&dynamics};
+      const JacobianFunctor jac{&dynamics};
+      const auto result = controller->try_step(std::make_pair(rhs, jac), z_old, t_try, z_new, step);
+      if (result == odeint::fail) {
+        ++stats.rejected_steps;
+        if (++rejected_in_a_row > 500 || step < 1e-14 * std::max(1.0, std::abs(t)))
+          throw SolverError(t, "the step size collapsed (" + std::to_string(step) +
+                                   " s) after repeated error-test failures; the loop may be unstable or a "
+                                   "parameter out of its physical range");
+        dt = step;
+        continue;
+      }
+      rejected_in_a_row = 0;
+      ++stats.steps;
+      controller->stepper().prepare_dense_output();
+      // try_step moved t_try to the step's end and proposed the next size.
+      const double t0 = t;
+      step_start = t;
+      step_end = t_try;
+      double t1 = (std::abs(t_try - stop_at) <= 1e-12 * std::max(1.0, std::abs(stop_at))) ? stop_at : t_try;
+      dt = step;
+      State x1 = dynamics.physical(z_new);
+      if (!x1.allFinite()) throw SolverError(t1, "the state became non-finite");
+
+      bool switched = false;
+      const auto [t_switch, guard] = locate_switch(t0, t1, x1, switched);
+      if (switched) {
+        if (t_switch < t1) x1 = interpolate(t_switch);
+        t1 = t_switch;
+      }
+      emit_samples_until(t1, true, sink);
+      t = t1;
+      x = x1;
+      if (switched) {
+        apply_switch(guard);
+        pin_held_coordinates();
+        restart = true;
+        dt = std::max(dt, 1e-9);
+      }
+      if (t >= stop_at && stop_at == corner) {
+        pin_held_coordinates();  // a stop position itself may have changed
+        restart = true;
+      }
+      if (observer) observer(t, x);
+    }
+    stats.wall_time_s +=
+        std::chrono::duration<double>(std::chrono::steady_clock::now() - wall_start).count();
+  }
+};
+
+Simulator::Simulator(const ModelParameters& initial, const RunSettings& settings, const InitialCondition& start,
+                     double start_time)
+    : impl_(std::make_unique<Impl>(initial, settings, start, start_time)) {}
+
+Simulator::~Simulator() = default;
+
+void Simulator::add_event(const Event& event) {
+  if (event.at < impl_->t)
+    throw std::invalid_argument("event on " + event.target + " at " + format_time(event.at) +
+                                " starts before the present time " + format_time(impl_->t));
+  impl_->schedule.add(event);
+  impl_->restart = true;
+}
+
+void Simulator::advance_to(double t_end, const SampleSink& sink) { impl_->advance_to(t_end, sink); }
+void Simulator::set_step_observer(StepObserver observer) { impl_->observer = std::move(observer); }
+double Simulator::time() const { return impl_->t; }
+const State& Simulator::state() const { return impl_->x; }
+StopModes Simulator::stop_modes() const { return impl_->modes; }
+ModelParameters Simulator::parameters_now() const { return impl_->schedule.at(impl_->t); }
+const Schedule& Simulator::schedule() const { return impl_->schedule; }
+const SolverStats& Simulator::stats() const { return impl_->stats; }
+
+SettledStart settle_by_integration(const ModelParameters& p, const RunSettings& settings) {
+  SettledStart result;
+  RunSettings s = settings;
+  s.sample_interval = 1.0;  // no trace needed
+  Simulator sim(p, s, full_stroke_guess(p));
+  const State scale = state_scale(p);
+  const double chunk = 0.02;  // s
+  State previous = sim.state();
+  double t = 0.0;
+  while (t < settings.settle_time_limit) {
+    t = std::min(t + chunk, settings.settle_time_limit);
+    sim.advance_to(t, nullptr);
+    const double change = ((sim.state() - previous).cwiseQuotient(scale)).cwiseAbs().maxCoeff();
+    previous = sim.state();
+    if (change < 10.0 * settings.atol && change < 1e-6) {
+      result.settled = true;
+      break;
+    }
+  }
+  result.condition.x = sim.state();
+  result.condition.modes = sim.stop_modes();
+  result.simulated_time = sim.time();
+  result.stats = sim.stats();
+  return result;
+}
+
+RunResult run_scenario(const Scenario& scenario) {
+  RunResult result;
+  result.start = settle_by_integration(scenario.parameters, scenario.settings);
+  Simulator sim(scenario.parameters, scenario.settings, result.start.condition);
+  for (const Event& e : scenario.events) sim.add_event(e);
+
+  const double duration = scenario.settings.duration;
+  const std::size_t windows = scenario.events.size();
+  result.window_peaks.assign(windows, -infinity);
+  result.window_minima.assign(windows, infinity);
+  auto window_end = [&](std::size_t i) { return i + 1 < windows ? scenario.events[i + 1].at : duration; };
+  auto observe = [&](double t, const State& x) {
+    const double pd = x[state::discharge_pressure];
+    result.peak_discharge_pressure = std::max(result.peak_discharge_pressure, pd);
+    for (std::size_t i = 0; i < windows; ++i)
+      if (t >= scenario.events[i].at && t <= window_end(i)) {
+        result.window_peaks[i] = std::max(result.window_peaks[i], pd);
+        result.window_minima[i] = std::min(result.window_minima[i], pd);
+      }
+  };
+  sim.set_step_observer(observe);
+  result.peak_discharge_pressure = -infinity;
+  result.trace.reserve(static_cast<std::size_t>(duration / scenario.settings.sample_interval) + 2);
+  sim.advance_to(duration, [&](const Sample& s) {
+    observe(s.time, s.x);
+    result.trace.push_back(s);
+  });
+  result.stats = sim.stats();
+  return result;
+}
+
+}  // namespace swashtune

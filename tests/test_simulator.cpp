@@ -1,0 +1,177 @@
+// The simulator against laws and facts of the trade, and its own contracts
+// (schedule, end stops, running in pieces).
+#include <gtest/gtest.h>
+
+#include <cmath>
+
+#include "swashtune/metrics.hpp"
+#include "swashtune/schedule.hpp"
+#include "swashtune/simulator.hpp"
+
+using namespace swashtune;
+
+namespace {
+
+Scenario valve_slam() {
+  Scenario s;
+  s.settings.duration = 1.0;
+  s.events = {Event{0.1, "load.opening", 0.0, 0.005, 0}, Event{0.6, "load.opening", 1.0, 0.005, 0}};
+  return s;
+}
+
+double pressure_at(const RunResult& r, double t) { return trace_value_at(r.trace, t, discharge_pressure_of); }
+
+}  // namespace
+
+TEST(Schedule, RampsStepsAndSupersedes) {
+  Schedule schedule(default_parameters());
+  schedule.add(Event{0.1, "load.opening", 0.0, 0.1, 0});  // 1 -> 0 over 0.1 s
+  schedule.add(Event{0.15, "load.opening", 0.8, 0.0, 0}); // step while the ramp is half done
+  EXPECT_DOUBLE_EQ(schedule.at(0.05).opening, 1.0);
+  EXPECT_NEAR(schedule.at(0.125).opening, 0.75, 1e-12);
+  EXPECT_NEAR(schedule.at(0.1499999).opening, 0.5, 1e-5);
+  EXPECT_DOUBLE_EQ(schedule.at(0.15).opening, 0.8);
+  EXPECT_DOUBLE_EQ(schedule.at(0.3).opening, 0.8);  // the superseded ramp end (0.2 s) is gone
+  EXPECT_DOUBLE_EQ(schedule.next_corner_after(0.0), 0.1);
+  EXPECT_DOUBLE_EQ(schedule.next_corner_after(0.1), 0.15);
+  EXPECT_TRUE(std::isinf(schedule.next_corner_after(0.15)));
+  EXPECT_TRUE(schedule.varies_between(0.1, 0.15));
+  EXPECT_FALSE(schedule.varies_between(0.15, 1.0));
+  EXPECT_THROW(schedule.add(Event{0.2, "compensator.flow_forces", 0.0, 0.0, 0}), std::invalid_argument);
+}
+
+// Swash held at full stroke, load closed, compensator shut off from the line:
+// dp/dt = beta Q / V (hydraulic capacitance, Merritt, Hydraulic Control
+// Systems, 1967). check-values.md: 60 L/min into a closed 1 L at 1.4 GPa
+// gives 14 bar/ms.
+TEST(Simulator, PressureBuildUpFollowsCapacitanceLaw) {
+  ModelParameters p = default_parameters();
+  p.bulk_modulus = 1.4e9;
+  p.line_volume = 1e-3;
+  p.displacement = 60e-3 / p.speed;  // 60 L/min at full stroke
+  p.leakage_coefficient = 0.0;
+  p.opening = 0.0;
+  p.setting = 1e9;  // the spool never opens, so the plate stays on its stop
+  RunSettings settings = default_settings();
+  settings.sample_interval = 0.1e-3;
+  InitialCondition start;
+  start.x[state::swash_angle] = p.max_swash_angle;
+  start.x[state::spool_position] = -p.spool_travel;
+  start.modes = StopModes{Stop::upper, Stop::lower};
+  Simulator sim(p, settings, start);
+  std::vector<Sample> trace;
+  sim.advance_to(1e-3, [&](const Sample& s) { trace.push_back(s); });
+  ASSERT_EQ(trace.size(), 11u);
+  for (const Sample& s : trace) {
+    if (s.time == 0.0) continue;
+    const double rate_bar_per_ms = s.x[state::discharge_pressure] / 1e5 / (s.time * 1e3);
+    EXPECT_NEAR(rate_bar_per_ms / 14.0, 1.0, 0.005) << "t = " << s.time;
+  }
+}
+
+// Fact of the trade (common practice): at no flow a pressure-compensated
+// pump holds its setting and strokes back to near-zero displacement;
+// internal leakage makes it hold a small angle.
+TEST(Simulator, DeadheadHoldsSettingAtNearZeroStroke) {
+  Scenario s;
+  s.parameters.opening = 0.0;
+  s.settings.duration = 0.2;
+  const RunResult r = run_scenario(s);
+  ASSERT_TRUE(r.start.settled);
+  const Sample& last = r.trace.back();
+  const double p = last.x[state::discharge_pressure];
+  EXPECT_NEAR(p / s.parameters.setting, 1.0, 0.02);
+  const double angle = last.x[state::swash_angle];
+  EXPECT_GT(angle, 0.0);                                        // leakage keeps it off the stop
+  EXPECT_LT(angle, 0.05 * s.parameters.max_swash_angle);       // but near zero stroke
+  // Everything it makes goes to leakage and the control circuit.
+  EXPECT_NEAR(last.pump_flow, last.control_flow, 1e-7);
+  EXPECT_NEAR(last.load_flow, 0.0, 1e-12);
+  // Without leakage and bleed it strokes back further.
+  Scenario tight = s;
+  tight.parameters.leakage_coefficient = 0.0;
+  const RunResult rt = run_scenario(tight);
+  EXPECT_LT(rt.trace.back().x[state::swash_angle], angle);
+}
+
+// Common practice: with an easy flow path the pump stays at full stroke and
+// the circuit sets the pressure, so turning the compensator changes nothing
+// you can see; at no flow the pressure follows the setting.
+TEST(Simulator, SettingOnlyShowsAtNoFlow) {
+  Scenario s;
+  s.settings.duration = 1.0;
+  s.events = {Event{0.1, "compensator.setting", 140e5, 0.1, 0},   // turned down under flow
+              Event{0.4, "load.opening", 0.0, 0.02, 0},           // flow blocked
+              Event{0.6, "compensator.setting", 180e5, 0.1, 0}};  // turned up at no flow
+  const RunResult r = run_scenario(s);
+  const double before = pressure_at(r, 0.1);
+  EXPECT_LT(before, 10e5);
+  for (double t : {0.15, 0.2, 0.3, 0.39}) {
+    EXPECT_NEAR(pressure_at(r, t), before, 0.01e5) << "t = " << t;  // within 0.01 bar
+    EXPECT_NEAR(trace_value_at(r.trace, t, swash_angle_of), s.parameters.max_swash_angle, 1e-9);
+  }
+  EXPECT_NEAR(pressure_at(r, 0.59) / 140e5, 1.0, 0.02);  // the lowered setting only shows now
+  EXPECT_NEAR(pressure_at(r, 1.0) / 180e5, 1.0, 0.02);
+}
+
+// model.md allows any end-stop method if penetration stays below 0.1 % of
+// the travel; hard stops should give none at all.
+TEST(Simulator, HardStopsDoNotPenetrate) {
+  const Scenario s = valve_slam();
+  const RunResult r = run_scenario(s);
+  const ModelParameters& p = s.parameters;
+  bool swash_reached_zero = false, spool_reached_top = false;
+  for (const Sample& x : r.trace) {
+    EXPECT_GE(x.x[state::swash_angle], -1e-9 * p.max_swash_angle);
+    EXPECT_LE(x.x[state::swash_angle], p.max_swash_angle * (1 + 1e-9));
+    EXPECT_LE(std::abs(x.x[state::spool_position]), p.spool_travel * (1 + 1e-9));
+    swash_reached_zero |= x.x[state::swash_angle] == 0.0;
+    spool_reached_top |= x.x[state::spool_position] == p.spool_travel;
+  }
+  EXPECT_TRUE(swash_reached_zero);
+  EXPECT_TRUE(spool_reached_top);
+  EXPECT_GT(r.stats.stop_events, 0);
+}
+
+// model.md's sanity description of the defaults (not an oracle): peak about
+// 240-250 bar, settles near 210 bar, back to full stroke within about 20 ms.
+TEST(Simulator, ValveSlamLooksLikeTheReferenceDescription) {
+  const Scenario s = valve_slam();
+  const RunResult r = run_scenario(s);
+  const auto m = event_metrics(s, r);
+  ASSERT_EQ(m.size(), 2u);
+  EXPECT_GT(m[0].peak_discharge_pressure, 235e5);
+  EXPECT_LT(m[0].peak_discharge_pressure, 255e5);
+  EXPECT_NEAR(pressure_at(r, 0.55) / 210e5, 1.0, 0.02);
+  EXPECT_LT(m[0].settling_time, 0.06);
+  EXPECT_LT(m[1].swash_response_time, 0.025);
+  EXPECT_NEAR(trace_value_at(r.trace, 0.65, swash_angle_of), s.parameters.max_swash_angle, 1e-6);
+}
+
+// A live session advances in small pieces and adds events as it goes; the
+// trace must not depend on how the run was cut.
+TEST(Simulator, RunningInPiecesGivesTheSameTrace) {
+  const Scenario s = valve_slam();
+  const RunResult whole = run_scenario(s);
+  Simulator sim(s.parameters, s.settings, whole.start.condition);
+  std::vector<Sample> pieces;
+  auto sink = [&](const Sample& x) { pieces.push_back(x); };
+  double t = 0.0;
+  std::size_t next_event = 0;
+  while (t < s.settings.duration - 1e-12) {
+    t = std::min(t + 0.0137, s.settings.duration);
+    while (next_event < s.events.size() && s.events[next_event].at <= t) {
+      // Add each event only once the run has nearly reached it, as a user would.
+      sim.advance_to(s.events[next_event].at, sink);
+      sim.add_event(s.events[next_event++]);
+    }
+    sim.advance_to(t, sink);
+  }
+  ASSERT_EQ(pieces.size(), whole.trace.size());
+  for (std::size_t i = 0; i < pieces.size(); ++i) {
+    ASSERT_DOUBLE_EQ(pieces[i].time, whole.trace[i].time);
+    EXPECT_NEAR(pieces[i].x[state::discharge_pressure], whole.trace[i].x[state::discharge_pressure], 0.2e5)
+        << "t = " << pieces[i].time;
+  }
+  EXPECT_THROW(sim.add_event(Event{0.5, "load.opening", 0.5, 0.0, 0}), std::invalid_argument);
+}
