@@ -1,0 +1,17 @@
+// Small text helpers shared by the scenario reader and writer (internal).
+#pragma once
+
+#include <string>
+#include <string_view>
+#include <vector>
+
+namespace swashtune::detail {
+
+// The shortest text that reads back as exactly the same double, independent
+// of the C locale.
+std::string format_number(double v);
+
+// "; did you mean \"line.volume\"?" when a candidate is close to key, else "".
+std::string did_you_mean(std::string_view key, const std::vector<std::string>& candidates);
+
+}  // namespace swashtune::detail
