@@ -1,0 +1,42 @@
+// Result files of a run: trace.csv in the chosen units and summary.json in SI
+// (interfaces.md). Both are written atomically by the caller.
+#pragma once
+
+#include <optional>
+#include <string>
+#include <string_view>
+#include <vector>
+
+#include "swashtune/metrics.hpp"
+#include "swashtune/simulator.hpp"
+
+namespace swashtune {
+
+enum class UnitSystem { si, metric, us };
+
+std::optional<UnitSystem> parse_unit_system(std::string_view name);
+
+// One column of the trace: its name in each unit system and how to read it.
+struct TraceColumn {
+  std::string_view quantity;  // "discharge_pressure"
+  std::string_view si_unit;   // unit expression of the stored value
+  std::string_view metric_unit;
+  std::string_view us_unit;
+  double (*read)(const Sample&);
+};
+
+const std::vector<TraceColumn>& trace_columns();
+
+// Header name of a column in a unit system, e.g. "discharge_pressure_bar".
+std::string column_header(const TraceColumn& column, UnitSystem units);
+
+std::string trace_csv(const std::vector<Sample>& trace, UnitSystem units);
+
+std::string summary_json(const Scenario& scenario, const RunResult& result, const std::vector<EventMetrics>& events);
+
+// JSON helpers shared by the writers: finite numbers with full precision,
+// non-finite ones as null; strings escaped.
+std::string json_number(double value);
+std::string json_string(std::string_view text);
+
+}  // namespace swashtune

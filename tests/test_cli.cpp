@@ -1,0 +1,169 @@
+// swashtune-cli as a user meets it: exit codes, messages naming file and
+// line, the files `run` writes, and that a failed run leaves earlier results alone.
+#include <gtest/gtest.h>
+#include <sys/wait.h>
+
+#include <cstdio>
+#include <cstdlib>
+#include <filesystem>
+#include <fstream>
+#include <sstream>
+#include <string>
+
+namespace fs = std::filesystem;
+
+namespace {
+
+struct Outcome {
+  int exit_code;
+  std::string out;
+  std::string err;
+};
+
+std::string slurp(const fs::path& p) {
+  std::ifstream in(p);
+  std::ostringstream s;
+  s << in.rdbuf();
+  return s.str();
+}
+
+class Cli : public ::testing::Test {
+ protected:
+  void SetUp() override {
+    dir_ = fs::temp_directory_path() / ("swashtune-cli-test-" + std::to_string(::getpid()) + "-" +
+                                        ::testing::UnitTest::GetInstance()->current_test_info()->name());
+    fs::remove_all(dir_);
+    fs::create_directories(dir_);
+  }
+  void TearDown() override { fs::remove_all(dir_); }
+
+  fs::path write(const std::string& name, const std::string& text) {
+    const fs::path p = dir_ / name;
+    std::ofstream(p) << text;
+    return p;
+  }
+
+  Outcome cli(const std::string& args) {
+    const fs::path out = dir_ / "stdout.txt", err = dir_ / "stderr.txt";
+    const std::string command = std::string(SWASHTUNE_CLI) + " " + args + " >" + out.string() + " 2>" + err.string();
+    const int status = std::system(command.c_str());
+    return Outcome{WIFEXITED(status) ? WEXITSTATUS(status) : -1, slurp(out), slurp(err)};
+  }
+
+  fs::path dir_;
+};
+
+const std::string demo = std::string(SWASHTUNE_SOURCE_DIR) + "/scenarios/valve-slam.toml";
+
+}  // namespace
+
+TEST_F(Cli, RunWritesTraceAndSummaryWithTheInterfaceColumns) {
+  const Outcome o = cli("run " + demo + " --out " + (dir_ / "out").string() + " --units si");
+  ASSERT_EQ(o.exit_code, 0) << o.err;
+  const std::string csv = slurp(dir_ / "out" / "trace.csv");
+  // interfaces.md: these columns, exactly, first.
+  const std::string header =
+      "time_s,discharge_pressure_Pa,control_pressure_Pa,swash_angle_rad,swash_velocity_rad_s,spool_position_m,"
+      "spool_velocity_m_s,pump_flow_m3_s,load_flow_m3_s,leakage_flow_m3_s,control_flow_m3_s,load_opening";
+  EXPECT_EQ(csv.substr(0, header.size()), header);
+  EXPECT_EQ(std::count(csv.begin(), csv.end(), '\n'), 1 + 2001);  // header + 1 s at 0.5 ms
+  const std::string json = slurp(dir_ / "out" / "summary.json");
+  for (const char* key : {"\"scenario\"", "\"peak_discharge_pressure_Pa\"", "\"final\"", "\"discharge_pressure_Pa\"",
+                          "\"swash_angle_rad\"", "\"pump_flow_m3_s\"", "\"load_flow_m3_s\"", "\"events\"",
+                          "\"time_s\"", "\"target\"", "\"overshoot_percent\"", "\"settling_time_s\"",
+                          "\"swash_response_time_s\"", "\"solver\"", "\"steps\"", "\"rejected_steps\"",
+                          "\"rhs_evaluations\"", "\"wall_time_s\""})
+    EXPECT_NE(json.find(key), std::string::npos) << key;
+  EXPECT_NE(o.out.find("Caution"), std::string::npos);  // results a person could act on
+}
+
+TEST_F(Cli, MetricAndUsUnitsRenameAndConvertColumns) {
+  ASSERT_EQ(cli("run " + demo + " --out " + (dir_ / "m").string()).exit_code, 0);
+  ASSERT_EQ(cli("run " + demo + " --out " + (dir_ / "u").string() + " --units us").exit_code, 0);
+  const std::string metric = slurp(dir_ / "m" / "trace.csv");
+  const std::string us = slurp(dir_ / "u" / "trace.csv");
+  EXPECT_EQ(metric.rfind("time_s,discharge_pressure_bar,control_pressure_bar,swash_angle_deg,swash_velocity_deg_s,"
+                         "spool_position_mm,spool_velocity_mm_s,pump_flow_L_min",
+                         0),
+            0u);
+  EXPECT_EQ(us.rfind("time_s,discharge_pressure_psi,control_pressure_psi,swash_angle_deg,swash_velocity_deg_s,"
+                     "spool_position_in,spool_velocity_in_s,pump_flow_gpm",
+                     0),
+            0u);
+  // First data row: 17 deg full stroke in both; pressure bar -> psi by NIST SP 811.
+  auto row = [](const std::string& csv, int column) {
+    std::istringstream in(csv.substr(csv.find('\n') + 1));
+    std::string cell;
+    for (int i = 0; i <= column; ++i) std::getline(in, cell, ',');
+    return std::stod(cell);
+  };
+  EXPECT_NEAR(row(metric, 3), 17.0, 1e-6);
+  EXPECT_NEAR(row(us, 1), row(metric, 1) * 1e5 / 6894.757293168, 1e-4);
+}
+
+TEST_F(Cli, BadScenarioFilesExitTwoNamingFileAndLine) {
+  struct Case {
+    const char* name;
+    const char* text;
+    const char* line;  // expected "file:line" suffix
+    const char* what;  // a word the message must contain
+  };
+  const Case cases[] = {
+      {"unknown-key.toml", "[scenario]\nduration = \"1 s\"\n\n[line]\nvolum = \"1 L\"\n", ":5", "volum"},
+      {"wrong-unit.toml", "[compensator]\nsetting = \"210 kg\"\n", ":2", "pressure"},
+      {"negative-volume.toml", "[line]\n\nvolume = -1e-3\n", ":3", "line.volume"},
+      {"malformed.toml", "[pump]\ndisplacement = = 3\n", ":2", "TOML"},
+      {"bad-opening.toml", "[load]\nopening = 1.5\n", ":2", "load.opening"},
+  };
+  for (const Case& c : cases) {
+    const fs::path file = write(c.name, c.text);
+    const Outcome o = cli("run " + file.string() + " --out " + (dir_ / "never").string());
+    EXPECT_EQ(o.exit_code, 2) << c.name;
+    EXPECT_NE(o.err.find(std::string(c.name) + c.line), std::string::npos) << c.name << ": " << o.err;
+    EXPECT_NE(o.err.find(c.what), std::string::npos) << c.name << ": " << o.err;
+    EXPECT_FALSE(fs::exists(dir_ / "never" / "trace.csv"));
+  }
+  const Outcome missing = cli("check " + (dir_ / "nowhere.toml").string());
+  EXPECT_EQ(missing.exit_code, 2);
+  EXPECT_NE(missing.err.find("nowhere.toml"), std::string::npos);
+}
+
+TEST_F(Cli, BadCommandLinesExitTwo) {
+  EXPECT_EQ(cli("").exit_code, 2);
+  EXPECT_EQ(cli("fly " + demo).exit_code, 2);
+  EXPECT_EQ(cli("run " + demo).exit_code, 2);  // --out missing
+  const Outcome units = cli("run " + demo + " --out " + (dir_ / "x").string() + " --units furlongs");
+  EXPECT_EQ(units.exit_code, 2);
+  EXPECT_NE(units.err.find("--units"), std::string::npos);
+  EXPECT_EQ(cli("run --help").exit_code, 0);
+  EXPECT_EQ(cli("check --help").exit_code, 0);
+}
+
+TEST_F(Cli, FailedRunLeavesEarlierResultsIntact) {
+  const fs::path out = dir_ / "out";
+  ASSERT_EQ(cli("run " + demo + " --out " + out.string()).exit_code, 0);
+  const std::string before = slurp(out / "trace.csv");
+  const fs::path bad = write("bad.toml", "[line]\nvolume = \"-2 L\"\n");
+  EXPECT_EQ(cli("run " + bad.string() + " --out " + out.string()).exit_code, 2);
+  EXPECT_EQ(slurp(out / "trace.csv"), before);
+  for (const auto& entry : fs::directory_iterator(out))  // no temporary files left behind
+    EXPECT_TRUE(entry.path().filename() == "trace.csv" || entry.path().filename() == "summary.json")
+        << entry.path();
+}
+
+TEST_F(Cli, CheckAcceptsDemosAndPrintsResolvedJson) {
+  const Outcome o = cli("check " + demo + " --json");
+  ASSERT_EQ(o.exit_code, 0) << o.err;
+  EXPECT_NE(o.out.find("\"compensator.setting\": 21000000"), std::string::npos) << o.out;
+  EXPECT_EQ(cli("check " + std::string(SWASHTUNE_SOURCE_DIR) + "/scenarios/setting-under-flow.toml").exit_code, 0);
+}
+
+// The parameter table in resources/ is generated from the registry; it must
+// not drift from it.
+TEST_F(Cli, ParameterTableInResourcesIsCurrent) {
+  const Outcome o = cli("parameters --markdown");
+  ASSERT_EQ(o.exit_code, 0);
+  EXPECT_EQ(o.out, slurp(fs::path(SWASHTUNE_SOURCE_DIR) / "resources" / "parameters.md"))
+      << "regenerate with: swashtune-cli parameters --markdown > resources/parameters.md";
+  EXPECT_NE(o.out.find("`compensator.setting`"), std::string::npos);
+}
