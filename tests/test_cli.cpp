@@ -69,10 +69,9 @@ TEST_F(Cli, RunWritesTraceAndSummaryWithTheInterfaceColumns) {
   EXPECT_EQ(std::count(csv.begin(), csv.end(), '\n'), 1 + 2001);  // header + 1 s at 0.5 ms
   const std::string json = slurp(dir_ / "out" / "summary.json");
   for (const char* key : {"\"scenario\"", "\"peak_discharge_pressure_Pa\"", "\"final\"", "\"discharge_pressure_Pa\"",
-                          "\"swash_angle_rad\"", "\"pump_flow_m3_s\"", "\"load_flow_m3_s\"", "\"events\"",
-                          "\"time_s\"", "\"target\"", "\"overshoot_percent\"", "\"settling_time_s\"",
-                          "\"swash_response_time_s\"", "\"solver\"", "\"steps\"", "\"rejected_steps\"",
-                          "\"rhs_evaluations\"", "\"wall_time_s\""})
+                          "\"swash_angle_rad\"", "\"pump_flow_m3_s\"", "\"load_flow_m3_s\"", "\"events\"", "\"time_s\"",
+                          "\"target\"", "\"overshoot_percent\"", "\"settling_time_s\"", "\"swash_response_time_s\"",
+                          "\"solver\"", "\"steps\"", "\"rejected_steps\"", "\"rhs_evaluations\"", "\"wall_time_s\""})
     EXPECT_NE(json.find(key), std::string::npos) << key;
   EXPECT_NE(o.out.find("Caution"), std::string::npos);  // results a person could act on
 }
@@ -147,8 +146,7 @@ TEST_F(Cli, FailedRunLeavesEarlierResultsIntact) {
   EXPECT_EQ(cli("run " + bad.string() + " --out " + out.string()).exit_code, 2);
   EXPECT_EQ(slurp(out / "trace.csv"), before);
   for (const auto& entry : fs::directory_iterator(out))  // no temporary files left behind
-    EXPECT_TRUE(entry.path().filename() == "trace.csv" || entry.path().filename() == "summary.json")
-        << entry.path();
+    EXPECT_TRUE(entry.path().filename() == "trace.csv" || entry.path().filename() == "summary.json") << entry.path();
 }
 
 TEST_F(Cli, CheckAcceptsDemosAndPrintsResolvedJson) {

@@ -1,5 +1,7 @@
 // Scenario files: loading, error messages, writing back (core/src/scenario*.cpp).
 
+#include <gtest/gtest.h>
+
 #include <cctype>
 #include <cmath>
 #include <cstdio>
@@ -9,8 +11,6 @@
 #include <sstream>
 #include <string>
 #include <vector>
-
-#include <gtest/gtest.h>
 
 #include "swashtune/parameters.hpp"
 #include "swashtune/scenario.hpp"
@@ -41,9 +41,7 @@ std::string error_of(F&& f) {
   return {};
 }
 
-bool contains(const std::string& text, const std::string& part) {
-  return text.find(part) != std::string::npos;
-}
+bool contains(const std::string& text, const std::string& part) { return text.find(part) != std::string::npos; }
 
 // A unique scratch directory for files the tests write.
 std::filesystem::path scratch_dir() {
@@ -232,8 +230,7 @@ INSTANTIATE_TEST_SUITE_P(
                       BadCase{"negative_volume.toml", "line.volume", "> 0 m^3"},
                       BadCase{"opening_out_of_range.toml", "load.opening", ">= 0 and <= 1, got 1.5"},
                       BadCase{"malformed.toml", "", "malformed TOML"},
-                      BadCase{"event_unknown_target.toml", "events[1].set",
-                              "unknown parameter \"load.openning\""},
+                      BadCase{"event_unknown_target.toml", "events[1].set", "unknown parameter \"load.openning\""},
                       BadCase{"event_on_flag.toml", "events[0].set", "on/off switch"},
                       BadCase{"event_on_setting.toml", "events[0].set", "run setting"},
                       BadCase{"event_negative_ramp.toml", "events[0].ramp", ">= 0 s"},
@@ -269,11 +266,9 @@ TEST(Scenario, MalformedTomlGivesLineAndColumn) {
   EXPECT_TRUE(!after.empty() && std::isdigit(static_cast<unsigned char>(after[0]))) << message;
   EXPECT_TRUE(contains(message, "malformed TOML")) << message;
   // So is text that is not UTF-8.
-  EXPECT_TRUE(
-      contains(error_of([] { parse_scenario("[scenario]\nname = \"\xff\"\n", "u.toml"); }), "u.toml:2:"));
+  EXPECT_TRUE(contains(error_of([] { parse_scenario("[scenario]\nname = \"\xff\"\n", "u.toml"); }), "u.toml:2:"));
   // Duplicate keys are malformed TOML too.
-  EXPECT_TRUE(contains(error_of([] { parse_scenario("[load]\nopening = 1\nopening = 0\n", "d.toml"); }),
-                       "d.toml:3:"));
+  EXPECT_TRUE(contains(error_of([] { parse_scenario("[load]\nopening = 1\nopening = 0\n", "d.toml"); }), "d.toml:3:"));
 }
 
 TEST(Scenario, MissingFileIsAnError) {
@@ -307,12 +302,11 @@ TEST(Scenario, MoreBadValues) {
       {"[solver]\ntransition_pressure = -1\n", "solver.transition_pressure", ">= 1 Pa"},
       {"[pump]\nvolume = 1\n", "pump.volume", "did you mean \"line.volume\"?"},
       {"[pump.extra]\nx = 1\n", "pump.extra", "unknown key"},
-      {"[compensator]\nsetting = \"50 bar\"\n[line]\ntank_pressure = \"60 bar\"\n",
-       "inline.toml:4: line.tank_pressure", "compensator.setting"},
+      {"[compensator]\nsetting = \"50 bar\"\n[line]\ntank_pressure = \"60 bar\"\n", "inline.toml:4: line.tank_pressure",
+       "compensator.setting"},
       {"[events]\nat = 1\n", "events", "array of tables"},
       {"events = [1, 2]\n", "events[0]", "expected a table"},
-      {"[[events]]\nat = 0.1\nset = \"load.opening\"\nto = 0\nrmp = 1\n", "events[0].rmp",
-       "did you mean \"ramp\"?"},
+      {"[[events]]\nat = 0.1\nset = \"load.opening\"\nto = 0\nrmp = 1\n", "events[0].rmp", "did you mean \"ramp\"?"},
       {"[[events]]\nat = 0.1\nset = 3\nto = 0\n", "events[0].set", "expected a string"},
       {"[[events]]\nat = 0.1\nset = \"load.opening\"\nto = \"0 bar\"\n", "events[0].to", "plain number"},
       {"[[events]]\nat = \"-1 s\"\nset = \"load.opening\"\nto = 0\n", "events[0].at", ">= 0 s"},
@@ -331,8 +325,7 @@ TEST(Scenario, MoreBadValues) {
 
 TEST(Scenario, ReportsTheFirstProblemInTheFile) {
   // toml++ keeps keys sorted; the loader must still report line 2 first.
-  const std::string message =
-      error_of([] { parse_scenario("[pump]\nzpeed = 1\naspeed = 2\n", "order.toml"); });
+  const std::string message = error_of([] { parse_scenario("[pump]\nzpeed = 1\naspeed = 2\n", "order.toml"); });
   EXPECT_TRUE(contains(message, "order.toml:2: pump.zpeed")) << message;
 }
 
@@ -345,13 +338,10 @@ TEST(Scenario, ValidateEvent) {
   EXPECT_NO_THROW(validate_event(good, s, "here:3: events[0]"));
   EXPECT_NO_THROW(validate_event(Event{2.0, "pump.speed", 0.0, 0.0, 0}, s, "w"));  // at the very end
 
-  const auto message = [&](Event e) {
-    return error_of([&] { validate_event(e, s, "demo.toml:14: events[2]"); });
-  };
+  const auto message = [&](Event e) { return error_of([&] { validate_event(e, s, "demo.toml:14: events[2]"); }); };
   Event e = good;
   e.target = "load.openning";
-  EXPECT_EQ(message(e).rfind("demo.toml:14: events[2].set: unknown parameter \"load.openning\"", 0), 0u)
-      << message(e);
+  EXPECT_EQ(message(e).rfind("demo.toml:14: events[2].set: unknown parameter \"load.openning\"", 0), 0u) << message(e);
   EXPECT_TRUE(contains(message(e), "did you mean \"load.opening\"?"));
   e.target = "compensator.flow_forces";
   EXPECT_TRUE(contains(message(e), "events[2].set"));
@@ -416,8 +406,7 @@ void expect_same(const Scenario& a, const Scenario& b) {
   EXPECT_EQ(a.description, b.description);
   for (const ParameterSpec& spec : parameter_registry())
     EXPECT_EQ(spec.get(a.parameters), spec.get(b.parameters)) << spec.key;
-  for (const SettingSpec& spec : setting_registry())
-    EXPECT_EQ(spec.get(a.settings), spec.get(b.settings)) << spec.key;
+  for (const SettingSpec& spec : setting_registry()) EXPECT_EQ(spec.get(a.settings), spec.get(b.settings)) << spec.key;
   ASSERT_EQ(a.events.size(), b.events.size());
   for (std::size_t i = 0; i < a.events.size(); ++i) {
     SCOPED_TRACE("event " + std::to_string(i));
@@ -477,13 +466,20 @@ class JsonChecker {
   bool value() {
     if (i_ >= t_.size()) return false;
     switch (t_[i_]) {
-      case '{': return object();
-      case '[': return array();
-      case '"': return string();
-      case 't': return word("true");
-      case 'f': return word("false");
-      case 'n': return word("null");
-      default: return number();
+      case '{':
+        return object();
+      case '[':
+        return array();
+      case '"':
+        return string();
+      case 't':
+        return word("true");
+      case 'f':
+        return word("false");
+      case 'n':
+        return word("null");
+      default:
+        return number();
     }
   }
   bool object() {
@@ -583,8 +579,8 @@ class JsonChecker {
 TEST(Scenario, JsonCheckerRejectsBrokenJson) {
   // The checker itself must be able to fail, or the next test proves nothing.
   EXPECT_TRUE(JsonChecker(R"({"a": [1, -2.5e-3, true, null], "b": "x\"\n"})").valid());
-  for (const char* bad : {"{", R"({"a": 1,})", R"({"a": nan})", R"({"a": 01})", "{\"a\": \"\n\"}",
-                          R"({"a": inf})", R"([1 2])", R"({"a": 1.})"})
+  for (const char* bad : {"{", R"({"a": 1,})", R"({"a": nan})", R"({"a": 01})", "{\"a\": \"\n\"}", R"({"a": inf})",
+                          R"([1 2])", R"({"a": 1.})"})
     EXPECT_FALSE(JsonChecker(bad).valid()) << bad;
 }
 
@@ -592,10 +588,9 @@ TEST(Scenario, JsonIsValidAndComplete) {
   const Scenario s = unusual_scenario();
   const std::string json = scenario_to_json(s);
   EXPECT_TRUE(JsonChecker(json).valid()) << json;
-  for (const char* key :
-       {"\"scenario\"", "\"name\"", "\"duration_s\"", "\"sample_interval_s\"", "\"solver\"", "\"rtol\"",
-        "\"atol\"", "\"max_step_s\"", "\"parameters\"", "\"initial_state\": null", "\"events\"", "\"at_s\"",
-        "\"target\"", "\"to\"", "\"ramp_s\""})
+  for (const char* key : {"\"scenario\"", "\"name\"", "\"duration_s\"", "\"sample_interval_s\"", "\"solver\"",
+                          "\"rtol\"", "\"atol\"", "\"max_step_s\"", "\"parameters\"", "\"initial_state\": null",
+                          "\"events\"", "\"at_s\"", "\"target\"", "\"to\"", "\"ramp_s\""})
     EXPECT_TRUE(contains(json, key)) << key;
   for (const ParameterSpec& spec : parameter_registry())
     EXPECT_TRUE(contains(json, "\"" + std::string(spec.key) + "\": ")) << spec.key;

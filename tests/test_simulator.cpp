@@ -25,8 +25,8 @@ double pressure_at(const RunResult& r, double t) { return trace_value_at(r.trace
 
 TEST(Schedule, RampsStepsAndSupersedes) {
   Schedule schedule(default_parameters());
-  schedule.add(Event{0.1, "load.opening", 0.0, 0.1, 0});  // 1 -> 0 over 0.1 s
-  schedule.add(Event{0.15, "load.opening", 0.8, 0.0, 0}); // step while the ramp is half done
+  schedule.add(Event{0.1, "load.opening", 0.0, 0.1, 0});   // 1 -> 0 over 0.1 s
+  schedule.add(Event{0.15, "load.opening", 0.8, 0.0, 0});  // step while the ramp is half done
   EXPECT_DOUBLE_EQ(schedule.at(0.05).opening, 1.0);
   EXPECT_NEAR(schedule.at(0.125).opening, 0.75, 1e-12);
   EXPECT_NEAR(schedule.at(0.1499999).opening, 0.5, 1e-5);
@@ -82,8 +82,8 @@ TEST(Simulator, DeadheadHoldsSettingAtNearZeroStroke) {
   const double p = last.x[state::discharge_pressure];
   EXPECT_NEAR(p / s.parameters.setting, 1.0, 0.02);
   const double angle = last.x[state::swash_angle];
-  EXPECT_GT(angle, 0.0);                                        // leakage keeps it off the stop
-  EXPECT_LT(angle, 0.05 * s.parameters.max_swash_angle);       // but near zero stroke
+  EXPECT_GT(angle, 0.0);                                  // leakage keeps it off the stop
+  EXPECT_LT(angle, 0.05 * s.parameters.max_swash_angle);  // but near zero stroke
   // Everything it makes goes to leakage and the control circuit.
   EXPECT_NEAR(last.pump_flow, last.control_flow, 1e-7);
   EXPECT_NEAR(last.load_flow, 0.0, 1e-12);

@@ -1,11 +1,11 @@
 // Unit parsing and conversion (core/src/units.cpp).
 
+#include <gtest/gtest.h>
+
 #include <cmath>
 #include <sstream>
 #include <string>
 #include <vector>
-
-#include <gtest/gtest.h>
 
 #include "swashtune/parameters.hpp"
 #include "swashtune/units.hpp"
@@ -196,8 +196,7 @@ TEST(Units, GarbageIsAnErrorNotACrash) {
 // The registry's stored units and display units must all be understood, and
 // the display units must fit the stored unit, or the editor could not convert.
 TEST(Units, RegistryUnitsParseAndAgree) {
-  const auto check = [](std::string_view key, std::string_view unit, std::string_view metric,
-                        std::string_view us) {
+  const auto check = [](std::string_view key, std::string_view unit, std::string_view metric, std::string_view us) {
     SCOPED_TRACE(std::string(key));
     Unit stored, shown_metric, shown_us;
     ASSERT_NO_THROW(stored = parse_unit(unit));

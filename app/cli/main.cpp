@@ -28,9 +28,12 @@ struct PressureUnit {
 
 PressureUnit pressure_unit(UnitSystem units) {
   switch (units) {
-    case UnitSystem::si: return {"Pa", 1.0};
-    case UnitSystem::metric: return {"bar", 1e-5};
-    case UnitSystem::us: return {"psi", convert(1.0, "Pa", "psi")};
+    case UnitSystem::si:
+      return {"Pa", 1.0};
+    case UnitSystem::metric:
+      return {"bar", 1e-5};
+    case UnitSystem::us:
+      return {"psi", convert(1.0, "Pa", "psi")};
   }
   return {"Pa", 1.0};
 }
@@ -142,7 +145,8 @@ int main(int argc, char** argv) {
   CLI::App* run = app.add_subcommand("run", "Simulate a scenario and write trace.csv and summary.json");
   run->add_option("SCENARIO", scenario_path, "Scenario file (TOML)")->required();
   run->add_option("--out", out_dir, "Folder for trace.csv and summary.json (created if missing)")->required();
-  run->add_option("--units", units_name, "Units of trace.csv: si, metric (bar, L/min, deg, mm) or us (psi, gpm, deg, in)")
+  run->add_option("--units", units_name,
+                  "Units of trace.csv: si, metric (bar, L/min, deg, mm) or us (psi, gpm, deg, in)")
       ->capture_default_str();
 
   CLI::App* check = app.add_subcommand("check", "Validate a scenario file and list what differs from the defaults");
@@ -150,7 +154,8 @@ int main(int argc, char** argv) {
   check->add_flag("--json", json, "Print the resolved scenario as JSON (stored units: SI, speed in rev/min)");
 
   bool markdown = false;
-  CLI::App* parameters = app.add_subcommand("parameters", "List every parameter and setting with unit, default and range");
+  CLI::App* parameters =
+      app.add_subcommand("parameters", "List every parameter and setting with unit, default and range");
   parameters->add_flag("--markdown", markdown, "Print a Markdown table (resources/parameters.md)");
 
   try {

@@ -9,7 +9,8 @@ double trace_value_at(const std::vector<Sample>& trace, double t, double (*colum
   if (trace.empty()) return 0.0;
   if (t <= trace.front().time) return column(trace.front());
   if (t >= trace.back().time) return column(trace.back());
-  auto after = std::lower_bound(trace.begin(), trace.end(), t, [](const Sample& s, double time) { return s.time < time; });
+  auto after =
+      std::lower_bound(trace.begin(), trace.end(), t, [](const Sample& s, double time) { return s.time < time; });
   const Sample& b = *after;
   const Sample& a = *(after - 1);
   const double f = (t - a.time) / (b.time - a.time);
@@ -78,8 +79,7 @@ std::vector<EventMetrics> event_metrics(const Scenario& scenario, const RunResul
     m.settling_time = settling_time(trace, start, end, final_value, band);
     const double a0 = trace_value_at(trace, start, swash_angle_of);
     const double a1 = trace_value_at(trace, end, swash_angle_of);
-    m.swash_response_time =
-        response_time(trace, start, end, a0, a1, 1e-3 * scenario.parameters.max_swash_angle);
+    m.swash_response_time = response_time(trace, start, end, a0, a1, 1e-3 * scenario.parameters.max_swash_angle);
     out.push_back(m);
   }
   return out;

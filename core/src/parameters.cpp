@@ -131,11 +131,10 @@ std::vector<std::string> check_consistency(const ModelParameters& p) {
   std::vector<std::string> problems;
   if (std::abs(p.underlap) >= p.spool_travel)
     problems.push_back("compensator.underlap (" + number(p.underlap) +
-                       " m) must be smaller in size than compensator.spool_travel (" +
-                       number(p.spool_travel) + " m)");
+                       " m) must be smaller in size than compensator.spool_travel (" + number(p.spool_travel) + " m)");
   if (p.tank_pressure >= p.setting && p.setting > 0)
-    problems.push_back("line.tank_pressure (" + number(p.tank_pressure) +
-                       " Pa) must be below compensator.setting (" + number(p.setting) + " Pa)");
+    problems.push_back("line.tank_pressure (" + number(p.tank_pressure) + " Pa) must be below compensator.setting (" +
+                       number(p.setting) + " Pa)");
   return problems;
 }
 

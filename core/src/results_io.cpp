@@ -41,9 +41,12 @@ namespace {
 
 std::string_view unit_in(const TraceColumn& c, UnitSystem units) {
   switch (units) {
-    case UnitSystem::si: return c.si_unit;
-    case UnitSystem::metric: return c.metric_unit;
-    case UnitSystem::us: return c.us_unit;
+    case UnitSystem::si:
+      return c.si_unit;
+    case UnitSystem::metric:
+      return c.metric_unit;
+    case UnitSystem::us:
+      return c.us_unit;
   }
   return c.si_unit;
 }
@@ -52,8 +55,10 @@ std::string_view unit_in(const TraceColumn& c, UnitSystem units) {
 std::string unit_suffix(std::string_view unit) {
   std::string out;
   for (char ch : unit) {
-    if (ch == '/') out += '_';
-    else if (ch != '^' && ch != '-') out += ch;
+    if (ch == '/')
+      out += '_';
+    else if (ch != '^' && ch != '-')
+      out += ch;
   }
   return out;
 }
@@ -99,11 +104,21 @@ std::string json_string(std::string_view text) {
   std::string out = "\"";
   for (char ch : text) {
     switch (ch) {
-      case '"': out += "\\\""; break;
-      case '\\': out += "\\\\"; break;
-      case '\n': out += "\\n"; break;
-      case '\t': out += "\\t"; break;
-      case '\r': out += "\\r"; break;
+      case '"':
+        out += "\\\"";
+        break;
+      case '\\':
+        out += "\\\\";
+        break;
+      case '\n':
+        out += "\\n";
+        break;
+      case '\t':
+        out += "\\t";
+        break;
+      case '\r':
+        out += "\\r";
+        break;
       default:
         if (static_cast<unsigned char>(ch) < 0x20) {
           char buffer[8];

@@ -1,5 +1,4 @@
 #include "swashtune/scenario.hpp"
-#include "text_helpers.hpp"
 
 #include <algorithm>
 #include <charconv>
@@ -8,6 +7,8 @@
 #include <string>
 #include <string_view>
 #include <vector>
+
+#include "text_helpers.hpp"
 
 namespace swashtune {
 
@@ -85,11 +86,8 @@ std::string did_you_mean(std::string_view key, const std::vector<std::string>& c
 void sort_events(std::vector<Event>& events) {
   // NaN would break the strict weak ordering that stable_sort needs;
   // validate_event rejects it, but sorting must not misbehave before that.
-  const auto key = [](const Event& e) {
-    return std::isnan(e.at) ? std::numeric_limits<double>::infinity() : e.at;
-  };
-  std::stable_sort(events.begin(), events.end(),
-                   [&](const Event& a, const Event& b) { return key(a) < key(b); });
+  const auto key = [](const Event& e) { return std::isnan(e.at) ? std::numeric_limits<double>::infinity() : e.at; };
+  std::stable_sort(events.begin(), events.end(), [&](const Event& a, const Event& b) { return key(a) < key(b); });
 }
 
 // `where` names the event ("demo.toml:14: events[2]"); the offending field is
@@ -111,8 +109,7 @@ void validate_event(const Event& event, const Scenario& scenario, const std::str
       if (!p.is_flag()) numeric_keys.emplace_back(p.key);
     fail("set", "unknown parameter " + target + detail::did_you_mean(event.target, numeric_keys));
   }
-  if (spec->is_flag())
-    fail("set", target + " is an on/off switch; events can change numeric model parameters only");
+  if (spec->is_flag()) fail("set", target + " is an on/off switch; events can change numeric model parameters only");
 
   const std::string unit = spec->unit == "-" ? "" : " " + std::string(spec->unit);
   if (!spec->range.contains(event.to))
@@ -123,8 +120,8 @@ void validate_event(const Event& event, const Scenario& scenario, const std::str
     fail("at", "expected a time >= 0 s, got " + format_number(event.at) + " s");
   const double duration = scenario.settings.duration;
   if (event.at > duration)
-    fail("at", "expected a time within the run (scenario.duration = " + format_number(duration) +
-                   " s), got " + format_number(event.at) + " s");
+    fail("at", "expected a time within the run (scenario.duration = " + format_number(duration) + " s), got " +
+                   format_number(event.at) + " s");
 
   if (!std::isfinite(event.ramp) || event.ramp < 0.0)
     fail("ramp", "expected a ramp time >= 0 s (0 for a step), got " + format_number(event.ramp) + " s");

@@ -2,7 +2,7 @@
 // cross-checks. Keys, units, defaults and ranges all come from the registry
 // in parameters.cpp; this file only maps TOML onto it.
 
-#include "swashtune/scenario.hpp"
+#include <toml++/toml.h>
 
 #include <algorithm>
 #include <cctype>
@@ -17,9 +17,8 @@
 #include <utility>
 #include <vector>
 
-#include <toml++/toml.h>
-
 #include "swashtune/atomic_file.hpp"
+#include "swashtune/scenario.hpp"
 #include "swashtune/units.hpp"
 #include "text_helpers.hpp"
 
@@ -81,13 +80,27 @@ std::string string_literal(std::string_view text) {
   std::string out = "\"";
   for (const char c : text) {
     switch (c) {
-      case '"': out += "\\\""; break;
-      case '\\': out += "\\\\"; break;
-      case '\b': out += "\\b"; break;
-      case '\t': out += "\\t"; break;
-      case '\n': out += "\\n"; break;
-      case '\f': out += "\\f"; break;
-      case '\r': out += "\\r"; break;
+      case '"':
+        out += "\\\"";
+        break;
+      case '\\':
+        out += "\\\\";
+        break;
+      case '\b':
+        out += "\\b";
+        break;
+      case '\t':
+        out += "\\t";
+        break;
+      case '\n':
+        out += "\\n";
+        break;
+      case '\f':
+        out += "\\f";
+        break;
+      case '\r':
+        out += "\\r";
+        break;
       default: {
         const auto byte = static_cast<unsigned char>(c);
         if (byte < 0x20 || byte == 0x7f) {
@@ -177,11 +190,10 @@ class Reader {
         events = node;
       } else if (!node->is_table()) {
         fail(line_of(key->source()), name, "a key outside any section" + did_you_mean(name, known_keys()));
-      } else if (std::find(known_sections().begin(), known_sections().end(), name) ==
-                 known_sections().end()) {
-        fail(line_of(key->source()), name,
-             "unknown section [" + name + "]; expected one of " + section_list() +
-                 did_you_mean(name, known_sections()));
+      } else if (std::find(known_sections().begin(), known_sections().end(), name) == known_sections().end()) {
+        fail(
+            line_of(key->source()), name,
+            "unknown section [" + name + "]; expected one of " + section_list() + did_you_mean(name, known_sections()));
       } else {
         section_lines_[name] = line_of(node->source());
         read_section(name, *node->as_table(), scenario);
@@ -221,9 +233,7 @@ class Reader {
     throw ScenarioError(source_ + ":" + std::to_string(line) + ": " + key + ": " + what);
   }
 
-  std::string location(const toml::node& node) const {
-    return source_ + ":" + std::to_string(line_of(node.source()));
-  }
+  std::string location(const toml::node& node) const { return source_ + ":" + std::to_string(line_of(node.source())); }
 
   void read_section(const std::string& section, const toml::table& table, Scenario& scenario) {
     for (const auto& [key, node] : in_file_order(table)) {
@@ -261,8 +271,7 @@ class Reader {
       }
     }
     std::string expected = quantity_name(unit);
-    if (unit != "-")
-      expected += " (a number in " + std::string(unit) + ", or a string such as \"" + example + "\")";
+    if (unit != "-") expected += " (a number in " + std::string(unit) + ", or a string such as \"" + example + "\")";
     fail(line_of(node.source()), key, "expected " + expected + ", got " + describe(node));
   }
 
@@ -295,8 +304,7 @@ class Reader {
     try {
       const double shown = convert(spec.default_value, spec.unit, spec.metric_unit);
       char buffer[32];
-      const auto end =
-          std::to_chars(buffer, buffer + sizeof buffer, shown, std::chars_format::general, 6).ptr;
+      const auto end = std::to_chars(buffer, buffer + sizeof buffer, shown, std::chars_format::general, 6).ptr;
       return std::string(buffer, end) + " " + std::string(spec.metric_unit);
     } catch (const UnitError&) {
       return "1 " + std::string(spec.unit);
@@ -319,8 +327,7 @@ class Reader {
     if (problems.empty()) return;
     const std::string& problem = problems.front();
     const std::string key = problem.substr(0, problem.find(' '));
-    const int line =
-        line_of_key(key, section_line(find_parameter(key) ? std::string(section_of(key)) : "compensator"));
+    const int line = line_of_key(key, section_line(find_parameter(key) ? std::string(section_of(key)) : "compensator"));
     throw ScenarioError(source_ + ":" + std::to_string(line) + ": " + problem);
   }
 
@@ -331,23 +338,21 @@ class Reader {
     const auto end = std::to_chars(count, count + sizeof count, samples, std::chars_format::general, 3).ptr;
     const std::string key = "scenario.sample_interval";
     fail(line_of_key(key, line_of_key("scenario.duration", section_line("scenario"))), key,
-         "a sample every " + format_number(settings.sample_interval) + " s over " +
-             format_number(settings.duration) + " s gives " + std::string(count, end) +
+         "a sample every " + format_number(settings.sample_interval) + " s over " + format_number(settings.duration) +
+             " s gives " + std::string(count, end) +
              " samples; at most 1e8 are allowed (choose a longer sample_interval or a shorter duration)");
   }
 
   void read_events(const toml::node& node, Scenario& scenario) const {
     const auto* array = node.as_array();
     if (!array)
-      fail(line_of(node.source()), "events",
-           "expected [[events]] tables (an array of tables), got " + describe(node));
+      fail(line_of(node.source()), "events", "expected [[events]] tables (an array of tables), got " + describe(node));
     for (std::size_t i = 0; i < array->size(); ++i) {
       const std::string name = "events[" + std::to_string(i) + "]";
       const toml::node& element = *array->get(i);
       const auto* table = element.as_table();
       if (!table)
-        fail(line_of(element.source()), name,
-             "expected a table of at, set, to, ramp, got " + describe(element));
+        fail(line_of(element.source()), name, "expected a table of at, set, to, ramp, got " + describe(element));
       scenario.events.push_back(read_event(*table, name, scenario));
     }
   }
@@ -471,8 +476,7 @@ std::string scenario_to_json(const Scenario& scenario) {
   const RunSettings& s = scenario.settings;
   std::ostringstream out;
   out << "{\n"
-      << "  \"scenario\": {\"name\": " << string_literal(scenario.name)
-      << ", \"duration_s\": " << number(s.duration)
+      << "  \"scenario\": {\"name\": " << string_literal(scenario.name) << ", \"duration_s\": " << number(s.duration)
       << ", \"sample_interval_s\": " << number(s.sample_interval) << "},\n"
       << "  \"solver\": {\"rtol\": " << number(s.rtol) << ", \"atol\": " << number(s.atol)
       << ", \"max_step_s\": " << number(s.max_step) << "},\n"

@@ -8,8 +8,7 @@ namespace swashtune {
 
 double Schedule::Track::value_at(double t) const {
   // Last knot at or before t; knots at equal times: the later one wins.
-  auto after = std::upper_bound(knots.begin(), knots.end(), t,
-                                [](double time, const Knot& k) { return time < k.t; });
+  auto after = std::upper_bound(knots.begin(), knots.end(), t, [](double time, const Knot& k) { return time < k.t; });
   if (after == knots.begin()) return knots.front().value;  // first knot is at -inf: not reached
   const Knot& k0 = *(after - 1);
   if (after == knots.end()) return k0.value;

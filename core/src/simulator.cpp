@@ -469,8 +469,7 @@ struct Simulator::Impl {
       }
       if (observer) observer(t, x);
     }
-    stats.wall_time_s +=
-        std::chrono::duration<double>(std::chrono::steady_clock::now() - wall_start).count();
+    stats.wall_time_s += std::chrono::duration<double>(std::chrono::steady_clock::now() - wall_start).count();
   }
 };
 

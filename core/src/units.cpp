@@ -72,7 +72,7 @@ constexpr NamedUnit kUnits[] = {
     // power
     {"W", 1.0, Dimension{1, 2, -3}},
     {"kW", 1e3, Dimension{1, 2, -3}},
-    {"hp", 550.0 * foot * lbf, Dimension{1, 2, -3}},
+    {"hp", 550.0 * foot* lbf, Dimension{1, 2, -3}},
     // viscosity
     {"cSt", 1e-6, dim::kinematic_viscosity},
     {"K", 1.0, dim::temperature},
@@ -158,9 +158,7 @@ class UnitParser {
     }
     skip_space();
     std::size_t start = pos_;
-    while (pos_ < text_.size() &&
-           (std::isalpha(static_cast<unsigned char>(text_[pos_])) || text_[pos_] == '%'))
-      ++pos_;
+    while (pos_ < text_.size() && (std::isalpha(static_cast<unsigned char>(text_[pos_])) || text_[pos_] == '%')) ++pos_;
     std::string_view name = text_.substr(start, pos_ - start);
     if (name.empty()) fail("expected a unit name");
     for (const NamedUnit& n : kUnits)
@@ -256,9 +254,8 @@ double convert_to(std::string_view quantity_text, std::string_view target_unit) 
   if (!q.has_unit) return q.value;
   const Unit target = parse_unit(target_unit);
   if (q.unit.dimension != target.dimension) {
-    const std::string example = (target_unit == "-" || target_unit.empty())
-                                    ? std::string()
-                                    : " (e.g. in " + std::string(target_unit) + ")";
+    const std::string example =
+        (target_unit == "-" || target_unit.empty()) ? std::string() : " (e.g. in " + std::string(target_unit) + ")";
     throw UnitError("expected " + with_article(dimension_name(target.dimension)) + example + ", got \"" +
                     std::string(trim(quantity_text)) + "\", " + with_article(dimension_name(q.unit.dimension)));
   }

@@ -15,8 +15,7 @@ inline constexpr double minimum_absolute_pressure = 1e3;  // Pa, floor of the ai
 // (series compliances of oil and air; Merritt, Hydraulic Control Systems,
 // 1967, ch. 2). T may be an automatic-differentiation scalar.
 template <class T>
-T effective_bulk_modulus(const T& gauge_pressure, double beta_oil, double air_fraction,
-                         double polytropic_index) {
+T effective_bulk_modulus(const T& gauge_pressure, double beta_oil, double air_fraction, double polytropic_index) {
   if (air_fraction <= 0.0) return T(beta_oil);
   using std::pow;
   T p_abs = gauge_pressure + atmospheric_pressure;

@@ -38,9 +38,7 @@ enum class Stop : signed char { free = 0, lower = -1, upper = 1 };
 struct StopModes {
   Stop swash = Stop::free;  // lower: zero displacement, upper: full stroke
   Stop spool = Stop::free;  // lower: -x_max, upper: +x_max
-  friend bool operator==(const StopModes& a, const StopModes& b) {
-    return a.swash == b.swash && a.spool == b.spool;
-  }
+  friend bool operator==(const StopModes& a, const StopModes& b) { return a.swash == b.swash && a.spool == b.spool; }
   friend bool operator!=(const StopModes& a, const StopModes& b) { return !(a == b); }
 };
 
@@ -60,7 +58,7 @@ struct Derived {
   double control_area;  // A_c
   double sensing_area;  // A_s
   double bleed_area;
-  double full_flow;     // D_max N / 60, m^3/s
+  double full_flow;  // D_max N / 60, m^3/s
   double tan_max;
   double flow_force_gain;  // 2 Cd cos(69 deg), or 0 without flow forces
 
@@ -70,19 +68,18 @@ struct Derived {
         bleed_area(pi / 4.0 * p.bleed_diameter * p.bleed_diameter),
         full_flow(p.displacement * p.speed / 60.0),
         tan_max(std::tan(p.max_swash_angle)),
-        flow_force_gain(p.flow_forces ? 2.0 * p.spool_discharge_coefficient * std::cos(69.0 * pi / 180.0)
-                                      : 0.0) {}
+        flow_force_gain(p.flow_forces ? 2.0 * p.spool_discharge_coefficient * std::cos(69.0 * pi / 180.0) : 0.0) {}
 };
 
 // Every flow of the model at one state, m^3/s.
 template <class T>
 struct FlowsOf {
-  T geometric;       // Q_g
-  T leakage;         // Q_leak
-  T to_control;      // Q_pc, discharge -> control chamber
-  T control_to_case; // Q_ct
-  T bleed;           // Q_b
-  T load;            // Q_load
+  T geometric;          // Q_g
+  T leakage;            // Q_leak
+  T to_control;         // Q_pc, discharge -> control chamber
+  T control_to_case;    // Q_ct
+  T bleed;              // Q_b
+  T load;               // Q_load
   T metering_area_in;   // A_pc
   T metering_area_out;  // A_ct
 };
@@ -109,8 +106,8 @@ FlowsOf<T> flows(const ModelParameters& p, const Derived& d, const StateOf<T>& x
   f.to_control = orifice_flow(cd, f.metering_area_in, T(p_d - p_c), rho, dp_tr);
   f.control_to_case = orifice_flow(cd, f.metering_area_out, T(p_c - p.tank_pressure), rho, dp_tr);
   f.bleed = orifice_flow(cd, T(d.bleed_area), T(p_c - p.tank_pressure), rho, dp_tr);
-  f.load = orifice_flow(p.valve_discharge_coefficient, T(p.opening * p.valve_area), T(p_d - p.tank_pressure),
-                        rho, dp_tr);
+  f.load =
+      orifice_flow(p.valve_discharge_coefficient, T(p.opening * p.valve_area), T(p_d - p.tank_pressure), rho, dp_tr);
   return f;
 }
 
@@ -118,7 +115,8 @@ FlowsOf<T> flows(const ModelParameters& p, const Derived& d, const StateOf<T>& x
 // strokes the pump); decides when a plate held at a stop is released.
 template <class T>
 T swash_static_moment(const ModelParameters& p, const Derived& d, const StateOf<T>& x) {
-  const T bias_force = p.bias_force_at_full_stroke + p.bias_rate * p.bias_arm * (p.max_swash_angle - x[state::swash_angle]);
+  const T bias_force =
+      p.bias_force_at_full_stroke + p.bias_rate * p.bias_arm * (p.max_swash_angle - x[state::swash_angle]);
   return p.bias_arm * bias_force - p.control_piston_arm * d.control_area * x[state::control_pressure] -
          p.pressure_moment * x[state::discharge_pressure];
 }
@@ -157,8 +155,7 @@ StateOf<T> derivatives(const ModelParameters& p, const Derived& d, const StopMod
   const T control_volume = p.control_dead_volume + piston_moment_arm_area * (p.max_swash_angle - a);
 
   StateOf<T> dx;
-  dx[state::discharge_pressure] =
-      beta_d / p.line_volume * (f.geometric - f.leakage - f.to_control - f.load);
+  dx[state::discharge_pressure] = beta_d / p.line_volume * (f.geometric - f.leakage - f.to_control - f.load);
   dx[state::control_pressure] =
       beta_c / control_volume * (f.to_control - f.control_to_case - f.bleed + piston_moment_arm_area * w);
 

@@ -63,8 +63,8 @@ struct RunSettings {
   double duration = 0;         // s
   double sample_interval = 0;  // s
   double rtol = 0;
-  double atol = 0;             // in units of each state's scale (see model.hpp)
-  double max_step = 0;         // s
+  double atol = 0;               // in units of each state's scale (see model.hpp)
+  double max_step = 0;           // s
   double settle_time_limit = 0;  // s of simulated time allowed to reach the initial steady state
 };
 
@@ -74,20 +74,18 @@ struct Range {
   double max;
   bool min_open = false;
   bool max_open = false;
-  bool contains(double v) const {
-    return (min_open ? v > min : v >= min) && (max_open ? v < max : v <= max);
-  }
+  bool contains(double v) const { return (min_open ? v > min : v >= min) && (max_open ? v < max : v <= max); }
   std::string describe(std::string_view unit) const;
 };
 
 template <class Owner>
 struct FieldSpec {
-  std::string_view key;      // "compensator.setting", as in scenario files
-  std::string_view symbol;   // as in model.md
-  std::string_view unit;     // unit of the stored value ("-" for plain numbers)
+  std::string_view key;     // "compensator.setting", as in scenario files
+  std::string_view symbol;  // as in model.md
+  std::string_view unit;    // unit of the stored value ("-" for plain numbers)
   double default_value;
   Range range;
-  std::string_view meaning;  // one line, for the editor and the docs
+  std::string_view meaning;      // one line, for the editor and the docs
   std::string_view metric_unit;  // preferred display units
   std::string_view us_unit;
   double Owner::*field = nullptr;

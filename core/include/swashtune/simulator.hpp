@@ -17,11 +17,11 @@
 namespace swashtune {
 
 struct SolverStats {
-  long long steps = 0;           // accepted steps
+  long long steps = 0;  // accepted steps
   long long rejected_steps = 0;
   long long rhs_evaluations = 0;
   long long jacobian_evaluations = 0;
-  long long stop_events = 0;     // end-stop contacts and releases located
+  long long stop_events = 0;  // end-stop contacts and releases located
   double wall_time_s = 0.0;
 };
 
@@ -100,8 +100,8 @@ class Simulator {
 // state stops changing, to start a run from the steady operating point.
 struct SettledStart {
   InitialCondition condition;
-  bool settled = false;        // false: still moving when the time limit ran out
-  double simulated_time = 0.0; // s needed (or spent)
+  bool settled = false;         // false: still moving when the time limit ran out
+  double simulated_time = 0.0;  // s needed (or spent)
   SolverStats stats;
 };
 SettledStart settle_by_integration(const ModelParameters& p, const RunSettings& settings);
@@ -112,7 +112,7 @@ SettledStart settle_by_integration(const ModelParameters& p, const RunSettings& 
 struct RunResult {
   std::vector<Sample> trace;
   SettledStart start;
-  SolverStats stats;                 // of the run itself, without the settling
+  SolverStats stats;  // of the run itself, without the settling
   double peak_discharge_pressure = 0.0;
   std::vector<double> window_peaks;   // one per event, over [at, next event or end]
   std::vector<double> window_minima;  // likewise, the lowest discharge pressure

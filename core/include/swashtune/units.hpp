@@ -52,14 +52,14 @@ inline constexpr Dimension flow{0, 3, -1};
 inline constexpr Dimension displacement{0, 3, 0, -1};      // volume per radian of shaft angle
 inline constexpr Dimension rotational_speed{0, 0, -1, 1};  // rad/s
 inline constexpr Dimension density{1, -3, 0};
-inline constexpr Dimension spring_rate{1, 0, -2};                   // N/m
-inline constexpr Dimension linear_damping{1, 0, -1};                // N*s/m
-inline constexpr Dimension torque{1, 2, -2};                        // N*m
-inline constexpr Dimension rotational_damping{1, 2, -1, -1};        // N*m*s/rad
-inline constexpr Dimension inertia{1, 2, 0};                        // kg*m^2
-inline constexpr Dimension leakage_coefficient{-1, 4, 1};           // m^3/(s*Pa)
-inline constexpr Dimension torque_per_pressure{0, 3, 0};            // N*m/Pa
-inline constexpr Dimension kinematic_viscosity{0, 2, -1};           // m^2/s
+inline constexpr Dimension spring_rate{1, 0, -2};             // N/m
+inline constexpr Dimension linear_damping{1, 0, -1};          // N*s/m
+inline constexpr Dimension torque{1, 2, -2};                  // N*m
+inline constexpr Dimension rotational_damping{1, 2, -1, -1};  // N*m*s/rad
+inline constexpr Dimension inertia{1, 2, 0};                  // kg*m^2
+inline constexpr Dimension leakage_coefficient{-1, 4, 1};     // m^3/(s*Pa)
+inline constexpr Dimension torque_per_pressure{0, 3, 0};      // N*m/Pa
+inline constexpr Dimension kinematic_viscosity{0, 2, -1};     // m^2/s
 }  // namespace dim
 
 // A readable name for a dimension ("pressure", "flow rate", ...), or its
