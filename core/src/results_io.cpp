@@ -5,6 +5,7 @@
 #include <sstream>
 
 #include "swashtune/units.hpp"
+#include "text_helpers.hpp"
 
 namespace swashtune {
 
@@ -100,37 +101,7 @@ std::string json_number(double value) {
   return buffer;
 }
 
-std::string json_string(std::string_view text) {
-  std::string out = "\"";
-  for (char ch : text) {
-    switch (ch) {
-      case '"':
-        out += "\\\"";
-        break;
-      case '\\':
-        out += "\\\\";
-        break;
-      case '\n':
-        out += "\\n";
-        break;
-      case '\t':
-        out += "\\t";
-        break;
-      case '\r':
-        out += "\\r";
-        break;
-      default:
-        if (static_cast<unsigned char>(ch) < 0x20) {
-          char buffer[8];
-          std::snprintf(buffer, sizeof buffer, "\\u%04x", ch);
-          out += buffer;
-        } else {
-          out += ch;
-        }
-    }
-  }
-  return out + "\"";
-}
+std::string json_string(std::string_view text) { return detail::string_literal(text); }
 
 std::string summary_json(const Scenario& scenario, const RunResult& result, const std::vector<EventMetrics>& events) {
   const Sample last = result.trace.empty() ? Sample{} : result.trace.back();

@@ -81,6 +81,48 @@ std::string did_you_mean(std::string_view key, const std::vector<std::string>& c
   return guess.empty() ? std::string() : "; did you mean \"" + guess + "\"?";
 }
 
+// A quoted string for TOML or JSON; both accept these escapes.
+std::string string_literal(std::string_view text) {
+  static const char hex[] = "0123456789abcdef";
+  std::string out = "\"";
+  for (const char c : text) {
+    switch (c) {
+      case '"':
+        out += "\\\"";
+        break;
+      case '\\':
+        out += "\\\\";
+        break;
+      case '\b':
+        out += "\\b";
+        break;
+      case '\t':
+        out += "\\t";
+        break;
+      case '\n':
+        out += "\\n";
+        break;
+      case '\f':
+        out += "\\f";
+        break;
+      case '\r':
+        out += "\\r";
+        break;
+      default: {
+        const auto byte = static_cast<unsigned char>(c);
+        if (byte < 0x20 || byte == 0x7f) {
+          out += "\\u00";
+          out += hex[byte >> 4];
+          out += hex[byte & 0xf];
+        } else {
+          out += c;
+        }
+      }
+    }
+  }
+  return out + "\"";
+}
+
 }  // namespace detail
 
 void sort_events(std::vector<Event>& events) {

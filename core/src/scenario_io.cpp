@@ -28,6 +28,7 @@ namespace {
 
 using detail::did_you_mean;
 using detail::format_number;
+using detail::string_literal;
 
 // Beyond this the trace would not fit in memory, let alone on disk.
 constexpr double kMaxSamples = 1e8;
@@ -74,47 +75,6 @@ std::string float_literal(double v) {
   return text;
 }
 
-// A quoted string for TOML or JSON; both accept these escapes.
-std::string string_literal(std::string_view text) {
-  static const char hex[] = "0123456789abcdef";
-  std::string out = "\"";
-  for (const char c : text) {
-    switch (c) {
-      case '"':
-        out += "\\\"";
-        break;
-      case '\\':
-        out += "\\\\";
-        break;
-      case '\b':
-        out += "\\b";
-        break;
-      case '\t':
-        out += "\\t";
-        break;
-      case '\n':
-        out += "\\n";
-        break;
-      case '\f':
-        out += "\\f";
-        break;
-      case '\r':
-        out += "\\r";
-        break;
-      default: {
-        const auto byte = static_cast<unsigned char>(c);
-        if (byte < 0x20 || byte == 0x7f) {
-          out += "\\u00";
-          out += hex[byte >> 4];
-          out += hex[byte & 0xf];
-        } else {
-          out += c;
-        }
-      }
-    }
-  }
-  return out + "\"";
-}
 
 std::string with_article(const std::string& noun) {
   const bool vowel = !noun.empty() && std::string_view("aeiou").find(noun[0]) != std::string_view::npos;

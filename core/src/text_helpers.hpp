@@ -14,4 +14,7 @@ std::string format_number(double v);
 // "; did you mean \"line.volume\"?" when a candidate is close to key, else "".
 std::string did_you_mean(std::string_view key, const std::vector<std::string>& candidates);
 
+// A double-quoted string with the escapes that both TOML and JSON accept.
+std::string string_literal(std::string_view text);
+
 }  // namespace swashtune::detail
