@@ -128,9 +128,8 @@ std::string summary_json(const Scenario& scenario, const RunResult& result, cons
   }
   o << (events.empty() ? "],\n" : "\n  ],\n");
   o << "  \"initial_state\": {\n";
-  o << "    \"method\": \"integration to rest\",\n";
-  o << "    \"settled\": " << (result.start.settled ? "true" : "false") << ",\n";
-  o << "    \"simulated_time_s\": " << json_number(result.start.simulated_time) << "\n";
+  o << "    \"method\": " << json_string(to_string(result.start.method)) << ",\n";
+  o << "    \"converged\": " << (result.start.converged ? "true" : "false") << "\n";
   o << "  },\n";
   const SolverStats& s = result.stats;
   o << "  \"solver\": {\n";
@@ -144,6 +143,133 @@ std::string summary_json(const Scenario& scenario, const RunResult& result, cons
   o << "  }\n";
   o << "}\n";
   return o.str();
+}
+
+}  // namespace swashtune
+
+namespace swashtune {
+namespace {
+
+std::string json_optional(const std::optional<double>& v) { return v ? json_number(*v) : "null"; }
+
+const char* state_name(int index) {
+  static const char* names[] = {"discharge_pressure", "control_pressure", "swash_angle",
+                                "swash_velocity",     "spool_position",   "spool_velocity"};
+  return names[index];
+}
+
+std::string json_mode(const Mode& m) {
+  std::ostringstream o;
+  o << "{ \"re\": " << json_number(m.eigenvalue.real()) << ", \"im\": " << json_number(m.eigenvalue.imag())
+    << ", \"natural_frequency_Hz\": " << json_number(m.natural_frequency_hz)
+    << ", \"damped_frequency_Hz\": " << json_number(m.damped_frequency_hz)
+    << ", \"damping_ratio\": " << json_number(m.damping_ratio) << " }";
+  return o.str();
+}
+
+}  // namespace
+
+std::string stability_json(const StabilityReport& r) {
+  const State& x = r.operating_point.condition.x;
+  const StopModes& modes = r.operating_point.condition.modes;
+  std::ostringstream o;
+  o << "{\n  \"operating_point\": {\n";
+  o << "    \"load_opening\": " << json_number(r.load_opening) << ",\n";
+  o << "    \"discharge_pressure_Pa\": " << json_number(x[state::discharge_pressure]) << ",\n";
+  o << "    \"swash_angle_rad\": " << json_number(x[state::swash_angle]) << ",\n";
+  o << "    \"spool_position_m\": " << json_number(x[state::spool_position]) << ",\n";
+  o << "    \"control_pressure_Pa\": " << json_number(x[state::control_pressure]) << ",\n";
+  o << "    \"swash_stop\": " << json_string(stop_name(modes.swash, true)) << ",\n";
+  o << "    \"spool_stop\": " << json_string(stop_name(modes.spool, false)) << ",\n";
+  o << "    \"method\": " << json_string(to_string(r.operating_point.method)) << ",\n";
+  o << "    \"converged\": " << (r.operating_point.converged ? "true" : "false") << "\n  },\n";
+  o << "  \"eigenvalues\": [";
+  for (std::size_t i = 0; i < r.modes.size(); ++i)
+    o << (i ? ", " : "") << "{ \"re\": " << json_number(r.modes[i].eigenvalue.real())
+      << ", \"im\": " << json_number(r.modes[i].eigenvalue.imag()) << " }";
+  o << "],\n  \"modes\": [";
+  for (std::size_t i = 0; i < r.modes.size(); ++i) o << (i ? ",\n    " : "\n    ") << json_mode(r.modes[i]);
+  o << "\n  ],\n";
+  if (r.dominant)
+    o << "  \"dominant\": { \"frequency_Hz\": " << json_number(r.dominant->damped_frequency_hz)
+      << ", \"damping_ratio\": " << json_number(r.dominant->damping_ratio)
+      << ", \"natural_frequency_Hz\": " << json_number(r.dominant->natural_frequency_hz) << " },\n";
+  else
+    o << "  \"dominant\": null,\n";
+  o << "  \"loop\": { \"active\": " << (r.model.loop_active ? "true" : "false")
+    << ", \"gain_margin_dB\": " << json_optional(r.margins.gain_margin_db)
+    << ", \"phase_margin_deg\": " << json_optional(r.margins.phase_margin_deg)
+    << ", \"crossover_frequency_Hz\": " << json_optional(r.margins.crossover_frequency_hz)
+    << ", \"phase_crossover_frequency_Hz\": " << json_optional(r.margins.phase_crossover_frequency_hz) << " },\n";
+  o << "  \"stable\": " << (r.stable ? "true" : "false") << ",\n";
+  const LinearModel& m = r.model;
+  o << "  \"linear_model\": {\n    \"states\": [";
+  for (std::size_t i = 0; i < m.states.size(); ++i) o << (i ? ", " : "") << json_string(state_name(m.states[i]));
+  o << "],\n    \"A\": [";
+  for (int i = 0; i < m.a.rows(); ++i) {
+    o << (i ? ",\n          [" : "[");
+    for (int j = 0; j < m.a.cols(); ++j) o << (j ? ", " : "") << json_number(m.a(i, j));
+    o << "]";
+  }
+  o << "],\n    \"B\": [";
+  for (int i = 0; i < m.b.size(); ++i) o << (i ? ", " : "") << json_number(m.b[i]);
+  o << "],\n    \"C\": [";
+  for (int i = 0; i < m.c.size(); ++i) o << (i ? ", " : "") << json_number(m.c[i]);
+  o << "]\n  }\n}\n";
+  return o.str();
+}
+
+std::string characteristic_json(const Characteristic& ch) {
+  std::ostringstream o;
+  o << "{\n  \"deadhead_pressure_Pa\": " << json_number(ch.deadhead_pressure) << ",\n";
+  o << "  \"cut_in_pressure_Pa\": " << json_optional(ch.cut_in_pressure) << ",\n";
+  o << "  \"points\": [";
+  for (std::size_t i = 0; i < ch.points.size(); ++i) {
+    const CharacteristicPoint& c = ch.points[i];
+    o << (i ? ",\n    " : "\n    ") << "{ \"load_opening\": " << json_number(c.load_opening)
+      << ", \"discharge_pressure_Pa\": " << json_number(c.discharge_pressure)
+      << ", \"pump_flow_m3_s\": " << json_number(c.pump_flow) << ", \"load_flow_m3_s\": " << json_number(c.load_flow)
+      << ", \"swash_angle_rad\": " << json_number(c.swash_angle) << ", \"method\": " << json_string(to_string(c.method))
+      << " }";
+  }
+  o << "\n  ]\n}\n";
+  return o.str();
+}
+
+std::string stability_map_json(const StabilityMap& map) {
+  std::ostringstream o;
+  auto axis = [&](const char* name, const Axis& a) {
+    o << "  \"" << name << "\": { \"key\": " << json_string(a.spec->key) << ", \"unit\": " << json_string(a.spec->unit)
+      << ", \"values\": [";
+    for (std::size_t i = 0; i < a.values.size(); ++i) o << (i ? ", " : "") << json_number(a.values[i]);
+    o << "] },\n";
+  };
+  o << "{\n";
+  axis("x", map.x);
+  axis("y", map.y);
+  o << "  \"points\": [";
+  for (std::size_t i = 0; i < map.points.size(); ++i) {
+    const MapPoint& p = map.points[i];
+    o << (i ? ",\n    " : "\n    ") << "{ \"x\": " << json_number(p.x) << ", \"y\": " << json_number(p.y)
+      << ", \"solved\": " << (p.solved ? "true" : "false") << ", \"stable\": " << (p.stable ? "true" : "false")
+      << ", \"gain_margin_dB\": " << json_optional(p.gain_margin_db)
+      << ", \"phase_margin_deg\": " << json_optional(p.phase_margin_deg)
+      << ", \"crossover_frequency_Hz\": " << json_optional(p.crossover_frequency_hz)
+      << ", \"dominant_frequency_Hz\": " << json_optional(p.dominant_frequency_hz)
+      << ", \"dominant_damping_ratio\": " << json_optional(p.dominant_damping_ratio) << " }";
+  }
+  o << "\n  ]\n}\n";
+  return o.str();
+}
+
+std::string bode_csv(const std::vector<BodePoint>& bode) {
+  std::string out = "frequency_Hz,magnitude_dB,phase_deg\n";
+  char buffer[96];
+  for (const BodePoint& b : bode) {
+    std::snprintf(buffer, sizeof buffer, "%.8g,%.8g,%.8g\n", b.frequency_hz, b.magnitude_db, b.phase_deg);
+    out += buffer;
+  }
+  return out;
 }
 
 }  // namespace swashtune

@@ -10,6 +10,8 @@
 #include <sstream>
 #include <utility>
 
+#include "swashtune/analysis.hpp"
+
 namespace swashtune {
 namespace {
 
@@ -524,7 +526,7 @@ SettledStart settle_by_integration(const ModelParameters& p, const RunSettings& 
 
 RunResult run_scenario(const Scenario& scenario) {
   RunResult result;
-  result.start = settle_by_integration(scenario.parameters, scenario.settings);
+  result.start = steady_state(scenario.parameters, scenario.settings);
   Simulator sim(scenario.parameters, scenario.settings, result.start.condition);
   for (const Event& e : scenario.events) sim.add_event(e);
 

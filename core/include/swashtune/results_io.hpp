@@ -7,6 +7,7 @@
 #include <string_view>
 #include <vector>
 
+#include "swashtune/analysis.hpp"
 #include "swashtune/metrics.hpp"
 #include "swashtune/simulator.hpp"
 
@@ -33,6 +34,14 @@ std::string column_header(const TraceColumn& column, UnitSystem units);
 std::string trace_csv(const std::vector<Sample>& trace, UnitSystem units);
 
 std::string summary_json(const Scenario& scenario, const RunResult& result, const std::vector<EventMetrics>& events);
+
+// Analysis results as JSON (interfaces.md's keys first, SI units), with the
+// open-loop realisation (A, B, C) so that outside tools can check the figures.
+std::string stability_json(const StabilityReport& report);
+std::string characteristic_json(const Characteristic& characteristic);
+std::string stability_map_json(const StabilityMap& map);
+// Bode data of the loop transfer L(jw): frequency_Hz, magnitude_dB, phase_deg.
+std::string bode_csv(const std::vector<BodePoint>& bode);
 
 // JSON helpers shared by the writers: finite numbers with full precision,
 // non-finite ones as null; strings escaped.

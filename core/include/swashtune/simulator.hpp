@@ -106,13 +106,27 @@ struct SettledStart {
 };
 SettledStart settle_by_integration(const ModelParameters& p, const RunSettings& settings);
 
-// A whole run of a scenario: start from the settled state, apply every event,
+// Where a run starts: the equilibrium at the initial parameters, found by
+// Newton (analysis.hpp, steady_state) or, failing that, by integration.
+enum class SteadyMethod { newton, integration };
+const char* to_string(SteadyMethod m);
+
+struct OperatingPoint {
+  InitialCondition condition;  // state and the stops the coordinates rest on
+  SteadyMethod method = SteadyMethod::newton;
+  bool converged = false;       // false: integration ran out of time (the loop may hunt)
+  double residual = 0.0;        // Newton: largest scaled rate left at the solution
+  int iterations = 0;           // Newton iterations (summed over tried stop combinations)
+  double simulated_time = 0.0;  // integration: s of simulated time spent
+};
+
+// A whole run of a scenario: start from the steady state, apply every event,
 // keep the trace and the peak discharge pressure seen in each event window
 // (taken over every solver step, not only the samples).
 struct RunResult {
   std::vector<Sample> trace;
-  SettledStart start;
-  SolverStats stats;  // of the run itself, without the settling
+  OperatingPoint start;
+  SolverStats stats;  // of the run itself, without finding the start
   double peak_discharge_pressure = 0.0;
   std::vector<double> window_peaks;   // one per event, over [at, next event or end]
   std::vector<double> window_minima;  // likewise, the lowest discharge pressure
