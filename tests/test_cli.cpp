@@ -165,3 +165,41 @@ TEST_F(Cli, ParameterTableInResourcesIsCurrent) {
       << "regenerate with: swashtune-cli parameters --markdown > resources/parameters.md";
   EXPECT_NE(o.out.find("`compensator.setting`"), std::string::npos);
 }
+
+TEST_F(Cli, StabilityAndSteadyPrintTheInterfaceKeys) {
+  const Outcome st = cli("stability " + demo + " --opening 0 --json");
+  ASSERT_EQ(st.exit_code, 0) << st.err;
+  for (const char* key : {"\"operating_point\"", "\"load_opening\"", "\"discharge_pressure_Pa\"", "\"swash_angle_rad\"",
+                          "\"spool_position_m\"", "\"eigenvalues\"", "\"re\"", "\"im\"", "\"dominant\"",
+                          "\"frequency_Hz\"", "\"damping_ratio\"", "\"loop\"", "\"gain_margin_dB\"",
+                          "\"phase_margin_deg\"", "\"crossover_frequency_Hz\"", "\"stable\""})
+    EXPECT_NE(st.out.find(key), std::string::npos) << key;
+  const Outcome sd = cli("steady " + demo + " --points 5 --json");
+  ASSERT_EQ(sd.exit_code, 0) << sd.err;
+  for (const char* key : {"\"deadhead_pressure_Pa\"", "\"cut_in_pressure_Pa\"", "\"points\"", "\"pump_flow_m3_s\"",
+                          "\"load_flow_m3_s\"", "\"swash_angle_rad\""})
+    EXPECT_NE(sd.out.find(key), std::string::npos) << key;
+  const Outcome table = cli("stability " + demo + " --opening 0");
+  EXPECT_NE(table.out.find("gain margin"), std::string::npos);
+  EXPECT_NE(table.out.find("Caution"), std::string::npos);
+}
+
+TEST_F(Cli, StabilityRefusesBadArgumentsWithExitTwo) {
+  EXPECT_EQ(cli("stability " + demo + " --opening 1.5").exit_code, 2);
+  EXPECT_EQ(cli("stability " + demo + " --opening half").exit_code, 2);
+  const Outcome map = cli("stability " + demo + " --map line.volume=1:2:3 nothing=0:1:2");
+  EXPECT_EQ(map.exit_code, 2);
+  EXPECT_NE(map.err.find("nothing"), std::string::npos) << map.err;
+  EXPECT_EQ(cli("steady " + demo + " --points 1").exit_code, 2);
+}
+
+TEST_F(Cli, StabilityMapAndBodeFile) {
+  const fs::path bode = dir_ / "bode.csv";
+  ASSERT_EQ(cli("stability " + demo + " --opening 0 --bode " + bode.string()).exit_code, 0);
+  const std::string csv = slurp(bode);
+  EXPECT_EQ(csv.rfind("frequency_Hz,magnitude_dB,phase_deg\n", 0), 0u);
+  EXPECT_EQ(std::count(csv.begin(), csv.end(), '\n'), 602);
+  const Outcome map = cli("stability " + demo + " --map \"load.opening=0:0.1:3\" \"line.volume=0.5 L:1 L:2\" --json");
+  ASSERT_EQ(map.exit_code, 0) << map.err;
+  EXPECT_EQ(std::count(map.out.begin(), map.out.end(), '{') - 3, 6);  // 3 x 2 points, besides the outer and axes
+}

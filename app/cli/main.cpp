@@ -3,8 +3,10 @@
 #include <cstdio>
 #include <filesystem>
 #include <iostream>
+#include <optional>
 #include <string>
 
+#include "swashtune/analysis.hpp"
 #include "swashtune/atomic_file.hpp"
 #include "swashtune/metrics.hpp"
 #include "swashtune/results_io.hpp"
@@ -62,8 +64,8 @@ int run_command(const std::string& scenario_path, const std::string& out_dir, co
 
   const PressureUnit pu = pressure_unit(*units);
   std::printf("%s: %zu samples written to %s\n", scenario.name.c_str(), result.trace.size(), out_dir.c_str());
-  if (!result.start.settled)
-    std::printf("note: the loop had not come to rest after %.3g s; the run starts from the state reached\n",
+  if (!result.start.converged)
+    std::printf("note: no steady state found (the loop may hunt); the run starts from the state reached after %.3g s\n",
                 result.start.simulated_time);
   std::printf("peak discharge pressure %.1f %s\n", result.peak_discharge_pressure * pu.per_pascal, pu.name);
   for (const EventMetrics& m : metrics)
@@ -96,6 +98,122 @@ int check_command(const std::string& scenario_path, bool json) {
       std::printf("  %-36s %-12.6g %s (default %.6g)\n", std::string(spec.key).c_str(), value,
                   std::string(spec.unit).c_str(), spec.get(defaults));
   }
+  return exit_ok;
+}
+
+std::string optional_text(const std::optional<double>& v, const char* format) {
+  if (!v) return "none";
+  char buffer[64];
+  std::snprintf(buffer, sizeof buffer, format, *v);
+  return buffer;
+}
+
+ModelParameters with_opening(const Scenario& scenario, const std::optional<double>& opening) {
+  ModelParameters p = scenario.parameters;
+  if (opening) {
+    const ParameterSpec& spec = *find_parameter("load.opening");
+    if (!spec.range.contains(*opening))
+      throw ScenarioError("--opening: must be " + spec.range.describe(spec.unit) + ", got " + std::to_string(*opening));
+    p.opening = *opening;
+  }
+  return p;
+}
+
+void print_stability(const StabilityReport& r, UnitSystem units) {
+  const PressureUnit pu = pressure_unit(units);
+  const State& x = r.operating_point.condition.x;
+  const StopModes& modes = r.operating_point.condition.modes;
+  std::printf("Operating point at load opening %.4g (%s%s):\n", r.load_opening, to_string(r.operating_point.method),
+              r.operating_point.converged ? "" : ", NOT converged");
+  std::printf("  discharge %.2f %s, control %.2f %s\n", x[state::discharge_pressure] * pu.per_pascal, pu.name,
+              x[state::control_pressure] * pu.per_pascal, pu.name);
+  std::printf("  swash %.4f deg (%s), spool %.5f mm (%s)\n", x[state::swash_angle] * 180.0 / pi,
+              stop_name(modes.swash, true), x[state::spool_position] * 1e3, stop_name(modes.spool, false));
+  std::printf("Closed-loop modes:\n  %14s %14s %12s %12s %10s\n", "Re [1/s]", "Im [rad/s]", "f_n [Hz]", "f_d [Hz]",
+              "damping");
+  for (const Mode& m : r.modes)
+    std::printf("  %14.6g %14.6g %12.5g %12.5g %10.4f\n", m.eigenvalue.real(), m.eigenvalue.imag(),
+                m.natural_frequency_hz, m.damped_frequency_hz, m.damping_ratio);
+  if (r.dominant)
+    std::printf("Dominant oscillation: %.4g Hz, damping ratio %.4f\n", r.dominant->damped_frequency_hz,
+                r.dominant->damping_ratio);
+  else
+    std::printf("Dominant oscillation: none (no oscillatory mode)\n");
+  if (!r.model.loop_active) {
+    std::printf("Loop: inactive, the compensator spool rests on its stop (margins do not apply)\n");
+  } else {
+    std::printf("Loop opened at the sensing area: gain margin %s dB at %s Hz, phase margin %s deg at %s Hz\n",
+                optional_text(r.margins.gain_margin_db, "%.2f").c_str(),
+                optional_text(r.margins.phase_crossover_frequency_hz, "%.4g").c_str(),
+                optional_text(r.margins.phase_margin_deg, "%.1f").c_str(),
+                optional_text(r.margins.crossover_frequency_hz, "%.4g").c_str());
+  }
+  std::printf("Stable: %s\n", r.stable ? "yes" : "NO (an eigenvalue has a non-negative real part)");
+}
+
+int stability_command(const std::string& scenario_path, const std::optional<double>& opening, bool json,
+                      const std::vector<std::string>& map_axes, const std::string& bode_path,
+                      const std::string& units_name) {
+  const auto units = parse_unit_system(units_name);
+  if (!units) throw ScenarioError("--units: expected si, metric or us, got \"" + units_name + "\"");
+  const Scenario scenario = load_scenario(scenario_path);
+  const ModelParameters p = with_opening(scenario, opening);
+  if (!map_axes.empty()) {
+    if (map_axes.size() != 2) throw ScenarioError("--map: give exactly two axes, KEY=FROM:TO:N KEY2=FROM:TO:N");
+    const Axis x = parse_axis(map_axes[0]);
+    const Axis y = parse_axis(map_axes[1]);
+    const StabilityMap map = stability_map(p, scenario.settings, x, y);
+    if (json) {
+      std::cout << stability_map_json(map);
+      return exit_ok;
+    }
+    std::printf("%-28s %-28s %7s %10s %10s %10s %10s\n", std::string(x.spec->key).c_str(),
+                std::string(y.spec->key).c_str(), "stable", "GM [dB]", "PM [deg]", "f_d [Hz]", "damping");
+    for (const MapPoint& m : map.points)
+      std::printf("%-28.6g %-28.6g %7s %10s %10s %10s %10s\n", m.x, m.y, m.solved ? (m.stable ? "yes" : "NO") : "?",
+                  optional_text(m.gain_margin_db, "%.2f").c_str(), optional_text(m.phase_margin_deg, "%.1f").c_str(),
+                  optional_text(m.dominant_frequency_hz, "%.4g").c_str(),
+                  optional_text(m.dominant_damping_ratio, "%.4f").c_str());
+    std::printf("%s\n", safety_notice_short);
+    return exit_ok;
+  }
+  const StabilityReport report = analyse_stability(p, scenario.settings);
+  if (!bode_path.empty())
+    write_file_atomically(bode_path,
+                          bode_csv(loop_bode(report.model, margin_search_low_hz, margin_search_high_hz, 601)));
+  if (json) {
+    std::cout << stability_json(report);
+    return exit_ok;
+  }
+  print_stability(report, *units);
+  std::printf("%s\n", safety_notice_short);
+  return exit_ok;
+}
+
+int steady_command(const std::string& scenario_path, int points, bool json, const std::string& units_name) {
+  const auto units = parse_unit_system(units_name);
+  if (!units) throw ScenarioError("--units: expected si, metric or us, got \"" + units_name + "\"");
+  if (points < 2 || points > 10000) throw ScenarioError("--points: must be from 2 to 10000");
+  const Scenario scenario = load_scenario(scenario_path);
+  const Characteristic ch = steady_characteristic(scenario.parameters, scenario.settings, points);
+  if (json) {
+    std::cout << characteristic_json(ch);
+    return exit_ok;
+  }
+  const PressureUnit pu = pressure_unit(*units);
+  const bool us = *units == UnitSystem::us;
+  const double flow_factor = us ? convert(1.0, "m^3/s", "gpm") : convert(1.0, "m^3/s", "L/min");
+  const char* flow_unit = us ? "gpm" : "L/min";
+  std::printf("%8s %14s %16s %16s %10s  %s\n", "opening", (std::string("pressure [") + pu.name + "]").c_str(),
+              (std::string("pump flow [") + flow_unit + "]").c_str(),
+              (std::string("load flow [") + flow_unit + "]").c_str(), "swash [deg]", "found by");
+  for (const CharacteristicPoint& c : ch.points)
+    std::printf("%8.4f %14.3f %16.3f %16.3f %10.4f  %s\n", c.load_opening, c.discharge_pressure * pu.per_pascal,
+                c.pump_flow * flow_factor, c.load_flow * flow_factor, c.swash_angle * 180.0 / pi, to_string(c.method));
+  std::printf("deadhead pressure %.2f %s; cut-in pressure %s %s\n", ch.deadhead_pressure * pu.per_pascal, pu.name,
+              ch.cut_in_pressure ? optional_text(*ch.cut_in_pressure * pu.per_pascal, "%.2f").c_str() : "none",
+              pu.name);
+  std::printf("%s\n", safety_notice_short);
   return exit_ok;
 }
 
@@ -153,6 +271,26 @@ int main(int argc, char** argv) {
   check->add_option("SCENARIO", scenario_path, "Scenario file (TOML)")->required();
   check->add_flag("--json", json, "Print the resolved scenario as JSON (stored units: SI, speed in rev/min)");
 
+  std::optional<double> opening;
+  std::vector<std::string> map_axes;
+  std::string bode_path;
+  int points = 21;
+  CLI::App* stability =
+      app.add_subcommand("stability", "Linearise at the steady operating point: modes, loop margins, stability");
+  stability->add_option("SCENARIO", scenario_path, "Scenario file (TOML)")->required();
+  stability->add_option("--opening", opening, "Load valve opening 0..1 (default: the scenario's initial opening)");
+  stability->add_flag("--json", json, "Print JSON (SI), including the open-loop matrices A, B, C");
+  stability->add_option("--map", map_axes, "Margins over a grid of two parameters: KEY=FROM:TO:N KEY2=FROM:TO:N")
+      ->expected(2);
+  stability->add_option("--bode", bode_path, "Also write the loop's Bode data (frequency, dB, deg) to this CSV file");
+  stability->add_option("--units", units_name, "Units of the table: si, metric or us")->capture_default_str();
+
+  CLI::App* steady = app.add_subcommand("steady", "Steady pressure-flow characteristic over load openings 0..1");
+  steady->add_option("SCENARIO", scenario_path, "Scenario file (TOML)")->required();
+  steady->add_option("--points", points, "Number of load openings from 0 to 1")->capture_default_str();
+  steady->add_flag("--json", json, "Print JSON (SI)");
+  steady->add_option("--units", units_name, "Units of the table: si, metric or us")->capture_default_str();
+
   bool markdown = false;
   CLI::App* parameters =
       app.add_subcommand("parameters", "List every parameter and setting with unit, default and range");
@@ -173,6 +311,8 @@ int main(int argc, char** argv) {
     if (*run) return run_command(scenario_path, out_dir, units_name);
     if (*check) return check_command(scenario_path, json);
     if (*parameters) return parameters_command(markdown);
+    if (*stability) return stability_command(scenario_path, opening, json, map_axes, bode_path, units_name);
+    if (*steady) return steady_command(scenario_path, points, json, units_name);
   } catch (const ScenarioError& e) {
     std::cerr << e.what() << "\n";
     return exit_bad_input;
