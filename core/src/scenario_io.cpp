@@ -75,7 +75,6 @@ std::string float_literal(double v) {
   return text;
 }
 
-
 std::string with_article(const std::string& noun) {
   const bool vowel = !noun.empty() && std::string_view("aeiou").find(noun[0]) != std::string_view::npos;
   return (vowel ? "an " : "a ") + noun;
