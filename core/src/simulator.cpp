@@ -490,6 +490,12 @@ void Simulator::add_event(const Event& event) {
 }
 
 void Simulator::advance_to(double t_end, const SampleSink& sink) { impl_->advance_to(t_end, sink); }
+void Simulator::set_sample_interval(double seconds) {
+  if (!(seconds > 0.0)) throw std::invalid_argument("the sample interval must be positive");
+  impl_->settings.sample_interval = seconds;
+  impl_->next_sample = static_cast<long long>(std::floor(impl_->t / seconds + 1e-9)) + 1;
+}
+
 void Simulator::set_step_observer(StepObserver observer) { impl_->observer = std::move(observer); }
 double Simulator::time() const { return impl_->t; }
 const State& Simulator::state() const { return impl_->x; }

@@ -81,6 +81,10 @@ class Simulator {
   // on the grid). Throws SolverError when the integration fails.
   void advance_to(double t_end, const SampleSink& sink);
 
+  // Samples from now on come every `seconds` (on the grid k * seconds,
+  // strictly after the present time).
+  void set_sample_interval(double seconds);
+
   // Called after every accepted step (and every located stop event).
   void set_step_observer(StepObserver observer);
 
