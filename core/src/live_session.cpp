@@ -55,6 +55,10 @@ Sample LiveSession::sample_now() const {
 Scenario LiveSession::to_scenario() const {
   Scenario s = scenario_;
   s.settings.duration = std::max(simulator_->time(), s.settings.sample_interval);
+  // Scripted events not reached yet did not happen in this session.
+  s.events.erase(
+      std::remove_if(s.events.begin(), s.events.end(), [&](const Event& e) { return e.at > s.settings.duration; }),
+      s.events.end());
   return s;
 }
 

@@ -42,8 +42,8 @@ class LiveSession {
   const OperatingPoint& start() const { return start_; }
   const SolverStats& stats() const { return simulator_->stats(); }
 
-  // The session as a scenario: initial parameters, every event so far, and
-  // the duration run so far (at least one sample interval).
+  // The session as a scenario: initial parameters, every event that has
+  // started so far, and the duration run so far (at least one sample interval).
   Scenario to_scenario() const;
 
  private:
