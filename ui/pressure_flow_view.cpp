@@ -1,0 +1,251 @@
+#include "pressure_flow_view.hpp"
+
+#include <qcustomplot.h>
+
+#include <QEvent>
+#include <QVBoxLayout>
+#include <algorithm>
+#include <optional>
+
+namespace swashtune::ui {
+namespace {
+
+// Palette-derived styling, as in the other views.
+QColor blend(const QColor& a, const QColor& b, double t) {
+  return QColor::fromRgbF(static_cast<float>(a.redF() * (1 - t) + b.redF() * t),
+                          static_cast<float>(a.greenF() * (1 - t) + b.greenF() * t),
+                          static_cast<float>(a.blueF() * (1 - t) + b.blueF() * t));
+}
+
+bool is_dark(const QPalette& pal) { return pal.color(QPalette::Base).lightnessF() < 0.5; }
+
+QColor for_background(const QColor& c, bool dark) {
+  if (!dark) return c;
+  float h, s, l, a;
+  c.getHslF(&h, &s, &l, &a);
+  return QColor::fromHslF(h, s * 0.9f, std::max(l, 0.66f), a);
+}
+
+void style_axis(QCPAxis* axis, const QPalette& pal, const QFont& font) {
+  const QColor text = pal.color(QPalette::WindowText);
+  const QColor base = pal.color(QPalette::Base);
+  const QPen line(blend(text, base, 0.45), 1);
+  axis->setBasePen(line);
+  axis->setTickPen(line);
+  axis->setSubTickPen(line);
+  axis->setTickLabelColor(text);
+  axis->setLabelColor(text);
+  axis->setTickLabelFont(font);
+  axis->setLabelFont(font);
+  axis->grid()->setPen(QPen(blend(base, text, 0.13), 1));
+  axis->grid()->setZeroLinePen(QPen(blend(base, text, 0.3), 1));
+}
+
+const QRgb kCurveColour = 0x1971c2;    // the steady characteristic
+const QRgb kPointColour = 0xd9480f;    // the present operating point (the discharge pressure's colour in the traces)
+const QRgb kSettingColour = 0x862e9c;  // the compensator setting
+
+}  // namespace
+
+struct PressureFlowView::Impl : QObject {
+  PressureFlowView* view;
+  DisplayUnits units = DisplayUnits::make(UnitSystem::metric);
+  QCustomPlot* plot = nullptr;
+  QCPGraph* curve = nullptr;
+  QCPGraph* point = nullptr;
+  QCPItemStraightLine* settingLine = nullptr;
+  QCPItemText* settingText = nullptr;
+
+  // What was given, in SI, so a change of units can redraw it.
+  std::optional<Characteristic> characteristic;
+  double setting_pa = 0.0;
+  std::optional<std::pair<double, double>> operating;  // pressure Pa, load flow m^3/s
+  QCPRange baseX{0, 1}, baseY{0, 1};
+
+  explicit Impl(PressureFlowView* v) : view(v) {}
+
+  void build();
+  void applyStyle();
+  void relabel();
+  void redrawCharacteristic();
+  void placePoint();
+
+  bool eventFilter(QObject* watched, QEvent* event) override {
+    if (watched == view && (event->type() == QEvent::PaletteChange || event->type() == QEvent::FontChange))
+      applyStyle();
+    return false;
+  }
+};
+
+void PressureFlowView::Impl::build() {
+  auto* layout = new QVBoxLayout(view);
+  layout->setContentsMargins(4, 4, 4, 4);
+  plot = new QCustomPlot(view);
+  plot->setObjectName(QStringLiteral("pressure_flow_chart"));
+  layout->addWidget(plot);
+
+  plot->xAxis2->setVisible(true);
+  plot->yAxis2->setVisible(true);
+  for (QCPAxis* a : {plot->xAxis2, plot->yAxis2}) {
+    a->setTicks(false);
+    a->setTickLabels(false);
+  }
+
+  curve = plot->addGraph();
+  curve->setName(QStringLiteral("steady characteristic"));
+  point = plot->addGraph();
+  point->setName(QStringLiteral("present operating point"));
+  point->setLineStyle(QCPGraph::lsNone);
+  point->setAdaptiveSampling(false);
+
+  settingLine = new QCPItemStraightLine(plot);
+  settingLine->setLayer(QStringLiteral("background"));  // under the curve
+  settingText = new QCPItemText(plot);
+  settingText->position->setTypeX(QCPItemPosition::ptAxisRectRatio);
+  settingText->position->setTypeY(QCPItemPosition::ptPlotCoords);
+  // Labelled at the right, where the curve has fallen away from the setting.
+  settingText->setPositionAlignment(Qt::AlignBottom | Qt::AlignRight);
+  settingText->setPadding(QMargins(2, 0, 2, 2));
+  settingLine->setVisible(false);
+  settingText->setVisible(false);
+
+  plot->legend->setVisible(true);
+  plot->axisRect()->insetLayout()->setInsetAlignment(0, Qt::AlignBottom | Qt::AlignLeft);
+  view->installEventFilter(this);
+  applyStyle();
+  relabel();
+}
+
+void PressureFlowView::Impl::applyStyle() {
+  const QPalette pal = view->palette();
+  const QColor text = pal.color(QPalette::WindowText);
+  const QColor base = pal.color(QPalette::Base);
+  const bool dark = is_dark(pal);
+  const QFont font = view->font();
+  plot->setBackground(pal.brush(QPalette::Window));
+  plot->axisRect()->setBackground(QBrush(base));
+  for (QCPAxis* a : plot->axisRect()->axes()) style_axis(a, pal, font);
+
+  const QColor curveColour = for_background(QColor(kCurveColour), dark);
+  curve->setPen(QPen(curveColour, 2));
+  curve->setScatterStyle(QCPScatterStyle(QCPScatterStyle::ssCircle, curveColour, base, 6));
+  const QColor pointColour = for_background(QColor(kPointColour), dark);
+  // A filled disc with a ring in the background colour stands clear of the curve it sits on.
+  QCPScatterStyle disc(QCPScatterStyle::ssCircle, 13);
+  disc.setPen(QPen(base, 2.5));
+  disc.setBrush(pointColour);
+  point->setScatterStyle(disc);
+  point->setPen(QPen(pointColour));
+
+  const QColor settingColour = for_background(QColor(kSettingColour), dark);
+  settingLine->setPen(QPen(settingColour, 1.5, Qt::DashLine));
+  settingText->setColor(settingColour);
+  settingText->setFont(font);
+
+  plot->legend->setBrush(QBrush(QColor(base.red(), base.green(), base.blue(), 215)));
+  plot->legend->setBorderPen(QPen(blend(base, text, 0.25), 1));
+  plot->legend->setTextColor(text);
+  plot->legend->setFont(font);
+  plot->replot(QCustomPlot::rpQueuedReplot);
+}
+
+void PressureFlowView::Impl::relabel() {
+  plot->xAxis->setLabel(QStringLiteral("load flow [%1]").arg(units.flow.unit));
+  plot->yAxis->setLabel(QStringLiteral("discharge pressure [%1]").arg(units.pressure.unit));
+}
+
+void PressureFlowView::Impl::redrawCharacteristic() {
+  curve->data()->clear();
+  if (!characteristic || characteristic->points.empty()) {
+    settingLine->setVisible(false);
+    settingText->setVisible(false);
+    return;
+  }
+  QVector<double> x, y;
+  double maxFlow = 0.0, maxPressure = 0.0;
+  for (const CharacteristicPoint& c : characteristic->points) {
+    x.append(units.flow.to_display(c.load_flow));
+    y.append(units.pressure.to_display(c.discharge_pressure));
+    maxFlow = std::max(maxFlow, x.back());
+    maxPressure = std::max(maxPressure, y.back());
+  }
+  curve->setData(x, y);  // sorted by load flow, which rises with the opening anyway
+
+  const double setting = units.pressure.to_display(setting_pa);
+  settingLine->point1->setCoords(0, setting);
+  settingLine->point2->setCoords(1, setting);
+  settingText->position->setCoords(0.98, setting);
+  settingText->setText(
+      QStringLiteral("setting %1 %2")
+          .arg(QString::number(setting, 'f', units.system == UnitSystem::us ? 0 : 1), units.pressure.unit));
+  settingLine->setVisible(setting_pa > 0.0);
+  settingText->setVisible(setting_pa > 0.0);
+
+  // A little room below zero keeps markers at no flow or no pressure whole;
+  // headroom above the setting leaves space for the overshoot of a transient.
+  const double right = maxFlow > 0 ? maxFlow : 1.0;
+  const double top = std::max(maxPressure, setting) > 0 ? std::max(maxPressure, setting) : 1.0;
+  baseX = QCPRange(-0.02 * right, 1.08 * right);
+  baseY = QCPRange(-0.02 * top, 1.3 * top);
+  plot->xAxis->setRange(baseX);
+  plot->yAxis->setRange(baseY);
+}
+
+void PressureFlowView::Impl::placePoint() {
+  if (!operating) {
+    point->data()->clear();
+    return;
+  }
+  const double x = units.flow.to_display(operating->second);
+  const double y = units.pressure.to_display(operating->first);
+  // One point, replaced in place: cheap enough for every display frame.
+  if (point->data()->size() == 1) {
+    auto it = point->data()->begin();
+    it->key = x;
+    it->value = y;
+  } else {
+    point->data()->clear();
+    point->addData(x, y);
+  }
+  // A transient can leave the steady curve's frame; widen it, never narrower than the curve's.
+  auto widen = [](QCPAxis* axis, const QCPRange& base, double v) {
+    const QCPRange now = axis->range();
+    if (v >= now.lower && v <= now.upper) return;
+    axis->setRange(std::min(base.lower, v < now.lower ? v - 0.05 * base.size() : now.lower),
+                   std::max(base.upper, v > now.upper ? v + 0.08 * base.size() : now.upper));
+  };
+  widen(plot->xAxis, baseX, x);
+  widen(plot->yAxis, baseY, y);
+}
+
+// ---- PressureFlowView ----
+
+PressureFlowView::PressureFlowView(QWidget* parent) : QWidget(parent), d(new Impl(this)) { d->build(); }
+
+PressureFlowView::~PressureFlowView() { delete d; }
+
+void PressureFlowView::setUnits(UnitSystem system) {
+  d->units = DisplayUnits::make(system);
+  d->relabel();
+  d->redrawCharacteristic();
+  d->placePoint();
+  d->plot->replot(QCustomPlot::rpQueuedReplot);
+}
+
+void PressureFlowView::setCharacteristic(const Characteristic& characteristic, double setting_pa) {
+  d->characteristic = characteristic;
+  d->setting_pa = setting_pa;
+  d->redrawCharacteristic();
+  d->placePoint();
+  d->plot->replot(QCustomPlot::rpQueuedReplot);
+}
+
+void PressureFlowView::setOperatingPoint(double pressure_pa, double load_flow_m3_s) {
+  d->operating = std::make_pair(pressure_pa, load_flow_m3_s);
+  d->placePoint();
+  d->plot->replot(QCustomPlot::rpQueuedReplot);
+}
+
+QCustomPlot* PressureFlowView::plot() const { return d->plot; }
+
+}  // namespace swashtune::ui

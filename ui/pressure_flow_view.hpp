@@ -1,0 +1,29 @@
+// The steady pressure-flow characteristic (pressure against load flow over
+// load openings 0..1) with the present operating point moving on it.
+#pragma once
+
+#include <QWidget>
+
+#include "display_units.hpp"
+#include "swashtune/analysis.hpp"
+
+class QCustomPlot;
+
+namespace swashtune::ui {
+
+class PressureFlowView : public QWidget {
+  Q_OBJECT
+ public:
+  explicit PressureFlowView(QWidget* parent = nullptr);
+  ~PressureFlowView() override;
+  void setUnits(UnitSystem system);
+  void setCharacteristic(const Characteristic& characteristic, double setting_pa);
+  void setOperatingPoint(double pressure_pa, double load_flow_m3_s);  // the live point
+  QCustomPlot* plot() const;
+
+ private:
+  struct Impl;
+  Impl* d;  // owned; deleted in the destructor
+};
+
+}  // namespace swashtune::ui
