@@ -2,6 +2,7 @@
 // results and the nonlinear model itself.
 #include <gtest/gtest.h>
 
+#include <Eigen/Eigenvalues>
 #include <cmath>
 
 #include "swashtune/analysis.hpp"
@@ -220,4 +221,22 @@ TEST(StabilityMap, SmallerLineVolumeLowersGainMargin) {
   for (const MapPoint& m : map.points) ASSERT_TRUE(m.solved && m.gain_margin_db);
   EXPECT_LT(*map.points[0].gain_margin_db, *map.points[1].gain_margin_db);
   EXPECT_LT(*map.points[1].gain_margin_db, *map.points[2].gain_margin_db);
+}
+
+// With the feedback opened at the sensing area the flow forces still feel
+// p_d: at the demo's deadhead they make the opened loop unstable by
+// themselves, which the report must say (margins then need Nyquist's reading).
+TEST(Margins, ReportsUnstablePolesOfTheOpenedLoop) {
+  ModelParameters p = deadhead();
+  const StabilityReport with_forces = analyse_stability(p, default_settings());
+  EXPECT_TRUE(with_forces.stable);
+  EXPECT_EQ(with_forces.open_loop_unstable_poles, 1);
+  p.flow_forces = false;
+  const StabilityReport without = analyse_stability(p, default_settings());
+  EXPECT_EQ(without.open_loop_unstable_poles, 0);
+  // Independent count from the open-loop matrix itself.
+  const Eigen::VectorXcd poles = Eigen::EigenSolver<Eigen::MatrixXd>(without.model.scale.cwiseInverse().asDiagonal() *
+                                                                     without.model.a * without.model.scale.asDiagonal())
+                                     .eigenvalues();
+  EXPECT_TRUE((poles.real().array() < 0.0).all());
 }

@@ -649,9 +649,16 @@ void MarginsView::Impl::showFigures() {
   if (!r.model.loop_active)
     verdictLabel->setText(QStringLiteral(
         "loop inactive: the compensator spool rests on its stop (pump at full stroke); margins do not apply"));
-  else
-    verdictLabel->setText(r.stable ? QStringLiteral("stable")
-                                   : QStringLiteral("UNSTABLE: an eigenvalue has a non-negative real part"));
+  else {
+    QString verdict =
+        r.stable ? QStringLiteral("stable") : QStringLiteral("UNSTABLE: an eigenvalue has a non-negative real part");
+    if (r.open_loop_unstable_poles > 0)
+      verdict += QStringLiteral(
+                     " (the opened loop has %1 unstable pole(s): read the margins by Nyquist; "
+                     "the eigenvalues decide)")
+                     .arg(r.open_loop_unstable_poles);
+    verdictLabel->setText(verdict);
+  }
   styleVerdict();
 }
 

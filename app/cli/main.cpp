@@ -147,6 +147,11 @@ void print_stability(const StabilityReport& r, UnitSystem units) {
                 optional_text(r.margins.phase_crossover_frequency_hz, "%.4g").c_str(),
                 optional_text(r.margins.phase_margin_deg, "%.1f").c_str(),
                 optional_text(r.margins.crossover_frequency_hz, "%.4g").c_str());
+    if (r.open_loop_unstable_poles > 0)
+      std::printf(
+          "  note: the opened loop has %d unstable pole(s) (the spool's flow forces still feel p_d, for\n"
+          "  instance); read the margins by the Nyquist criterion: the eigenvalues decide stability\n",
+          r.open_loop_unstable_poles);
   }
   std::printf("Stable: %s\n", r.stable ? "yes" : "NO (an eigenvalue has a non-negative real part)");
 }

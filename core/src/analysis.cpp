@@ -376,6 +376,9 @@ StabilityReport analyse_stability(const ModelParameters& p, const RunSettings& s
     if (mode.oscillatory() && (!report.dominant || mode.damping_ratio < report.dominant->damping_ratio))
       report.dominant = mode;
   report.margins = loop_margins(report.model);
+  if (report.model.loop_active)
+    for (const Mode& mode : modes_of(report.model.a, report.model.scale))
+      if (mode.eigenvalue.real() >= 0.0) ++report.open_loop_unstable_poles;
   report.stable = std::all_of(report.modes.begin(), report.modes.end(),
                               [](const Mode& mode) { return mode.eigenvalue.real() < 0.0; });
   return report;

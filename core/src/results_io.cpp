@@ -200,7 +200,8 @@ std::string stability_json(const StabilityReport& r) {
     << ", \"gain_margin_dB\": " << json_optional(r.margins.gain_margin_db)
     << ", \"phase_margin_deg\": " << json_optional(r.margins.phase_margin_deg)
     << ", \"crossover_frequency_Hz\": " << json_optional(r.margins.crossover_frequency_hz)
-    << ", \"phase_crossover_frequency_Hz\": " << json_optional(r.margins.phase_crossover_frequency_hz) << " },\n";
+    << ", \"phase_crossover_frequency_Hz\": " << json_optional(r.margins.phase_crossover_frequency_hz)
+    << ", \"open_loop_unstable_poles\": " << r.open_loop_unstable_poles << " },\n";
   o << "  \"stable\": " << (r.stable ? "true" : "false") << ",\n";
   const LinearModel& m = r.model;
   o << "  \"linear_model\": {\n    \"states\": [";

@@ -90,6 +90,10 @@ struct StabilityReport {
   std::vector<Mode> modes;       // closed loop
   std::optional<Mode> dominant;  // the oscillatory pair with the least damping ratio
   LoopMargins margins;
+  // Poles of the opened loop (eigenvalues of A) with Re >= 0. With any, the
+  // margins must be read by the Nyquist criterion (that many encirclements)
+  // and only the closed-loop eigenvalues decide stability.
+  int open_loop_unstable_poles = 0;
   bool stable = false;  // every closed-loop eigenvalue in the left half plane
 };
 
