@@ -11,6 +11,8 @@
 #include <algorithm>
 #include <cmath>
 
+#include "plot_style.hpp"
+
 namespace swashtune::ui {
 
 QString format_margin_db(const std::optional<double>& v) {
@@ -28,38 +30,6 @@ QString format_frequency(const std::optional<double>& v) {
 namespace {
 
 constexpr int kBodePoints = 601;  // 100 a decade over the margin search span
-
-// Palette-derived styling, as in the other views.
-QColor blend(const QColor& a, const QColor& b, double t) {
-  return QColor::fromRgbF(static_cast<float>(a.redF() * (1 - t) + b.redF() * t),
-                          static_cast<float>(a.greenF() * (1 - t) + b.greenF() * t),
-                          static_cast<float>(a.blueF() * (1 - t) + b.blueF() * t));
-}
-
-bool is_dark(const QPalette& pal) { return pal.color(QPalette::Base).lightnessF() < 0.5; }
-
-QColor for_background(const QColor& c, bool dark) {
-  if (!dark) return c;
-  float h, s, l, a;
-  c.getHslF(&h, &s, &l, &a);
-  return QColor::fromHslF(h, s * 0.9f, std::max(l, 0.66f), a);
-}
-
-void style_axis(QCPAxis* axis, const QPalette& pal, const QFont& font) {
-  const QColor text = pal.color(QPalette::WindowText);
-  const QColor base = pal.color(QPalette::Base);
-  const QPen line(blend(text, base, 0.45), 1);
-  axis->setBasePen(line);
-  axis->setTickPen(line);
-  axis->setSubTickPen(line);
-  axis->setTickLabelColor(text);
-  axis->setLabelColor(text);
-  axis->setTickLabelFont(font);
-  axis->setLabelFont(font);
-  axis->grid()->setPen(QPen(blend(base, text, 0.13), 1));
-  axis->grid()->setSubGridPen(QPen(blend(base, text, 0.06), 1));
-  axis->grid()->setZeroLinePen(QPen(blend(base, text, 0.3), 1));
-}
 
 const QRgb kCurveColour = 0x1971c2;     // L(jw), and the stable eigenvalues
 const QRgb kUnstableColour = 0xe03131;  // eigenvalues with Re >= 0, negative margins, the UNSTABLE verdict

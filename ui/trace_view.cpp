@@ -16,6 +16,7 @@
 #include <array>
 #include <optional>
 
+#include "plot_style.hpp"
 #include "swashtune/model.hpp"
 
 namespace swashtune::ui {
@@ -66,40 +67,6 @@ constexpr std::size_t kMaxSamples = 200000;
 
 const QString kFollowingText = QStringLiteral("following the run");
 const QString kHeldText = QStringLiteral("held: double-click to follow");
-
-// ---- style helpers (palette-derived) ----
-
-QColor blend(const QColor& a, const QColor& b, double t) {
-  return QColor::fromRgbF(static_cast<float>(a.redF() * (1 - t) + b.redF() * t),
-                          static_cast<float>(a.greenF() * (1 - t) + b.greenF() * t),
-                          static_cast<float>(a.blueF() * (1 - t) + b.blueF() * t));
-}
-
-bool is_dark(const QPalette& pal) { return pal.color(QPalette::Base).lightnessF() < 0.5; }
-
-// The same hue, lightened enough to stand out on a dark background.
-QColor for_background(const QColor& c, bool dark) {
-  if (!dark) return c;
-  float h, s, l, a;
-  c.getHslF(&h, &s, &l, &a);
-  return QColor::fromHslF(h, s * 0.9f, std::max(l, 0.66f), a);
-}
-
-void style_axis(QCPAxis* axis, const QPalette& pal, const QFont& font) {
-  const QColor text = pal.color(QPalette::WindowText);
-  const QColor base = pal.color(QPalette::Base);
-  const QPen line(blend(text, base, 0.45), 1);
-  axis->setBasePen(line);
-  axis->setTickPen(line);
-  axis->setSubTickPen(line);
-  axis->setTickLabelColor(text);
-  axis->setLabelColor(text);
-  axis->setTickLabelFont(font);
-  axis->setLabelFont(font);
-  axis->grid()->setPen(QPen(blend(base, text, 0.13), 1));
-  axis->grid()->setSubGridPen(QPen(blend(base, text, 0.06), 1));
-  axis->grid()->setZeroLinePen(QPen(blend(base, text, 0.3), 1));
-}
 
 QString format_shown(double shown, const QString& unit) {
   // Enough digits for each unit's usual magnitude; SI falls back to %.4g.
