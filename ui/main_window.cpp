@@ -408,6 +408,7 @@ void MainWindow::onDisplayTick() {
     traces_->appendSamples(fresh);
     pressure_flow_->setOperatingPoint(fresh.back().x[state::discharge_pressure], fresh.back().load_flow);
     ++frames_;
+    ++frames_drawn_;
   }
   const qint64 now = QDateTime::currentMSecsSinceEpoch();
   if (frame_clock_start_ == 0) frame_clock_start_ = now;

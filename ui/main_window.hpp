@@ -62,6 +62,7 @@ class MainWindow : public QMainWindow {
   UnitSystem units() const { return units_; }
   void setUnits(UnitSystem system);
   double framesPerSecond() const { return fps_; }
+  long long framesDrawn() const { return frames_drawn_; }  // display updates with new samples
 
   static QString autosavePath();
 
@@ -108,6 +109,7 @@ class MainWindow : public QMainWindow {
   int runs_overlaid_ = 0;
   // Display-rate measurement.
   int frames_ = 0;
+  long long frames_drawn_ = 0;
   qint64 frame_clock_start_ = 0;
   double fps_ = 0.0;
 };

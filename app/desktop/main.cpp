@@ -1,7 +1,10 @@
 // swashtune: the desktop program. Wiring only: options, the built-in demo,
 // recovery of an autosaved session, and the --screenshot mode.
+#include <sys/resource.h>
+
 #include <QApplication>
 #include <QCommandLineParser>
+#include <QElapsedTimer>
 #include <QFile>
 #include <QMessageBox>
 #include <QTimer>
@@ -24,6 +27,13 @@ swashtune::Scenario built_in_demo() {
   return swashtune::parse_scenario(file.readAll().toStdString(), "built-in demo");
 }
 
+// User and system CPU time of the whole process (all threads).
+double process_cpu_seconds() {
+  rusage usage{};
+  getrusage(RUSAGE_SELF, &usage);
+  return usage.ru_utime.tv_sec + usage.ru_stime.tv_sec + 1e-6 * (usage.ru_utime.tv_usec + usage.ru_stime.tv_usec);
+}
+
 int fail(const QString& message, int code) {
   std::fprintf(stderr, "swashtune: %s\n", message.toLocal8Bit().constData());
   return code;
@@ -44,7 +54,11 @@ int main(int argc, char** argv) {
   const QCommandLineOption screenshot("screenshot", "Render the window to FILE.png after the run and exit.", "FILE");
   const QCommandLineOption scenario("scenario", "Scenario file to open (default: the built-in demo).", "FILE");
   const QCommandLineOption run_for("run-for", "With --screenshot: simulated seconds to run first.", "SECONDS", "0.3");
-  parser.addOptions({screenshot, scenario, run_for});
+  const QCommandLineOption measure(
+      "measure", "Run live for SECONDS of wall time, print the display rate and CPU load, exit.", "SECONDS");
+  const QCommandLineOption time_scale("time-scale", "With --measure: simulated per wall time, 1 down to 0.001.",
+                                      "SCALE", "1");
+  parser.addOptions({screenshot, scenario, run_for, measure, time_scale});
   parser.addPositionalArgument("scenario", "Scenario file to open (same as --scenario).", "[FILE]");
   parser.process(app);
 
@@ -90,6 +104,31 @@ int main(int argc, char** argv) {
         QApplication::exit(exit_bad_input);
         return;
       }
+      QApplication::exit(0);
+    });
+    return QApplication::exec();
+  }
+
+  if (parser.isSet(measure)) {
+    bool ok_seconds = false, ok_scale = false;
+    const double seconds = parser.value(measure).toDouble(&ok_seconds);
+    const double scale = parser.value(time_scale).toDouble(&ok_scale);
+    if (!ok_seconds || seconds <= 0.0 || seconds > 3600.0 || !ok_scale || scale < 1e-3 || scale > 1.0)
+      return fail("--measure SECONDS (0..3600) and --time-scale (0.001..1) expected", exit_bad_input);
+    window.show();
+    window.session()->setTimeScale(scale);
+    window.session()->start();
+    const long long frames_before = window.framesDrawn();
+    const double cpu_before = process_cpu_seconds();
+    const double sim_before = window.session()->simulatedTime();
+    QElapsedTimer wall;
+    wall.start();
+    QTimer::singleShot(static_cast<int>(seconds * 1000), &app, [&] {
+      const double elapsed = wall.elapsed() * 1e-3;
+      std::printf("time scale %g: %.1f display frames/s, CPU %.1f %% of one core, %.4f s simulated in %.2f s\n", scale,
+                  (window.framesDrawn() - frames_before) / elapsed,
+                  100.0 * (process_cpu_seconds() - cpu_before) / elapsed,
+                  window.session()->simulatedTime() - sim_before, elapsed);
       QApplication::exit(0);
     });
     return QApplication::exec();
