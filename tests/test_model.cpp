@@ -114,5 +114,5 @@ TEST(Model, FlowForceMatchesWorkedValue) {
   x[state::spool_position] = 0.1e-3;
   const Derived d(p);
   const Flows f = flows<double>(p, d, x);
-  EXPECT_NEAR(-spool_flow_force<double>(p, d, f, x), 13.7, 0.1);
+  EXPECT_NEAR(-spool_flow_force<double>(d, f, x), 13.7, 0.1);
 }

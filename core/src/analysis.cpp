@@ -117,7 +117,7 @@ class SteadyProblem {
       const Flows f = flows<double>(p_, d_, x);
       const double force = spool_static_force<double>(p_, d_, f, x);
       const double away = modes_.spool == Stop::lower ? force : -force;
-      if (away > 1e-8 * d_.sensing_area * x_scale_[0]) return false;
+      if (away > 1e-8 * d_.sensing_area * x_scale_[0] + d_.breakaway_friction) return false;
     }
     return x.allFinite();
   }
@@ -140,9 +140,9 @@ Eigen::Vector4d guess_for(const ModelParameters& p, const StopModes& modes, cons
     // Control pressure that balances the bias spring at a small angle.
     const double small_angle = 0.02 * p.max_swash_angle;
     const double bias_moment =
-        p.bias_arm * (p.bias_force_at_full_stroke + p.bias_rate * p.bias_arm * (p.max_swash_angle - small_angle));
+        p.bias_arm * (d.bias_force_at_full_stroke + d.bias_rate * p.bias_arm * (p.max_swash_angle - small_angle));
     const bool full_stroke = modes.swash == Stop::upper;
-    y << (full_stroke ? full.x[state::discharge_pressure] : p.setting),
+    y << (full_stroke ? full.x[state::discharge_pressure] : d.setting),
         (full_stroke ? p.tank_pressure : bias_moment / (p.control_piston_arm * d.control_area)), small_angle, 0.0;
   }
   if (modes.swash != Stop::free) y[2] = stop_position(modes.swash, 0.0, p.max_swash_angle);
@@ -155,7 +155,7 @@ std::vector<StopModes> contact_order(const ModelParameters& p, const InitialCond
   std::vector<StopModes> order;
   if (seed) order.push_back(seed->modes);
   const double full_stroke_pressure = full_stroke_guess(p).x[state::discharge_pressure];
-  const bool below_setting = full_stroke_pressure < 0.95 * p.setting;
+  const bool below_setting = full_stroke_pressure < 0.95 * Derived(p).setting;
   const StopModes regulating{Stop::free, Stop::free}, at_full_stroke{Stop::upper, Stop::lower};
   order.push_back(below_setting ? at_full_stroke : regulating);
   order.push_back(below_setting ? regulating : at_full_stroke);
@@ -405,7 +405,7 @@ Characteristic steady_characteristic(const ModelParameters& p, const RunSettings
   // Cut-in: the pump flow 5 % below the full-stroke flow at that pressure.
   const double full_flow = p.displacement * p.speed / 60.0;
   auto shortfall = [&](const CharacteristicPoint& c) {
-    return c.pump_flow - 0.95 * (full_flow - p.leakage_coefficient * c.discharge_pressure);
+    return c.pump_flow - 0.95 * (full_flow - Derived(p).leakage_coefficient * c.discharge_pressure);
   };
   for (std::size_t i = 0; i + 1 < ch.points.size(); ++i) {
     if ((shortfall(ch.points[i]) < 0.0) != (shortfall(ch.points[i + 1]) < 0.0)) {

@@ -62,6 +62,16 @@ std::vector<ParameterSpec> make_parameters() {
     {"load.opening", "s", "-", 1.0, Range{0.0, 1.0}, "load valve opening (0 closed, 1 fully open)", "-", "-", &P::opening},
 
     {"solver.transition_pressure", "dp_tr", "Pa", 1e4, Range{1.0, 1e6}, "pressure drop where orifice flow turns laminar", "bar", "psi", &P::transition_pressure},
+
+    {"faults.leakage_factor", "f_leak", "-", 1.0, Range{0.0, 50.0}, "worn pump: internal leakage multiplied by this", "-", "-", &P::fault_leakage_factor},
+    {"faults.entrained_air", "x_a,add", "-", 0.0, Range{0.0, 0.3}, "aerated oil: air fraction (at atmosphere) added to fluid.air_fraction", "%", "%", &P::fault_entrained_air},
+    {"faults.bleed_area_factor", "f_b", "-", 1.0, Range{0.0, 25.0}, "bleed orifice flow area multiplied (0 clogged, > 1 worn open)", "-", "-", &P::fault_bleed_area_factor},
+    {"faults.bias_spring_strength", "f_k", "-", 1.0, Range{0.0, 2.0}, "bias spring force and rate multiplied (< 1 weak, 0 broken)", "-", "-", &P::fault_bias_strength},
+    {"faults.spool_friction", "F_c", "N", 0.0, non_negative(500.0), "sticky compensator spool: Coulomb friction force", "N", "lbf", &P::fault_spool_friction},
+    {"faults.spool_stiction_ratio", "F_s/F_c", "-", 1.5, Range{1.0, 5.0}, "breakaway friction over Coulomb friction of a sticky spool", "-", "-", &P::fault_stiction_ratio},
+    {"faults.setting_drift", "f_set", "-", 0.0, Range{-0.5, 0.5}, "fatigued compensator spring: fraction of its preload lost (+ lowers the pressure)", "%", "%", &P::fault_setting_drift},
+    {"faults.line_volume_factor", "f_V", "-", 1.0, Range{0.05, 20.0}, "discharge volume multiplied (< 1 undersized, > 1 oversized)", "-", "-", &P::fault_line_volume_factor},
+    {"faults.case_pressure", "p_case", "Pa", 0.0, non_negative(5e6), "case pressure raised above tank (the control chamber drains to case)", "bar", "psi", &P::fault_case_pressure},
   };
   // clang-format on
 }

@@ -177,11 +177,11 @@ InitialCondition full_stroke_guess(const ModelParameters& p) {
   const Derived d(p);
   // Line pressure where the delivered full-stroke flow passes the valve
   // (bisection: the valve flow grows and the delivery falls with pressure).
-  double line_pressure = p.setting;
+  double line_pressure = d.setting;
   if (p.opening * p.valve_area > 0.0) {
-    double lo = p.tank_pressure, hi = std::max(2.0 * p.setting, p.tank_pressure + 1e6);
+    double lo = p.tank_pressure, hi = std::max(2.0 * d.setting, p.tank_pressure + 1e6);
     auto excess = [&](double pd) {
-      return d.full_flow - p.leakage_coefficient * pd -
+      return d.full_flow - d.leakage_coefficient * pd -
              orifice_flow(p.valve_discharge_coefficient, p.opening * p.valve_area, pd - p.tank_pressure, p.density,
                           p.transition_pressure);
     };
@@ -190,7 +190,7 @@ InitialCondition full_stroke_guess(const ModelParameters& p) {
         const double mid = 0.5 * (lo + hi);
         (excess(mid) > 0.0 ? lo : hi) = mid;
       }
-      line_pressure = std::min(0.5 * (lo + hi), p.setting);
+      line_pressure = std::min(0.5 * (lo + hi), d.setting);
     }
   }
   InitialCondition ic;
@@ -282,7 +282,7 @@ struct Simulator::Impl {
         const Flows f = flows<double>(p, d, xs);
         const double force = spool_static_force<double>(p, d, f, xs);
         const double away = modes.spool == Stop::lower ? force : -force;
-        return spool_release_force - away;
+        return spool_release_force + d.breakaway_friction - away;  // a sticky spool must break away
       }
     }
     return 1.0;
@@ -384,7 +384,7 @@ struct Simulator::Impl {
         const Flows f = flows<double>(p, d, xs);
         const double force = spool_static_force<double>(p, d, f, xs);
         settle_on(modes.spool, lower ? Stop::lower : Stop::upper, xs[state::spool_position], state::spool_position,
-                  state::spool_velocity, lower ? force : -force, spool_release_force);
+                  state::spool_velocity, lower ? force : -force, spool_release_force + d.breakaway_friction);
         break;
       }
       case Guard::swash_release:

@@ -5,6 +5,7 @@
 #pragma once
 
 #include <Eigen/Core>
+#include <algorithm>
 #include <cmath>
 
 #include "swashtune/fluid.hpp"
@@ -53,7 +54,14 @@ T orifice_flow(double cd, const T& area, const T& dp, double density, double tra
   return T(cd * std::sqrt(2.0 / density) * area * dp / root);
 }
 
-// Geometry derived from the parameters once per evaluation.
+// Friction of a sticky spool (faults.spool_friction): Coulomb friction with a
+// Stribeck rise to the breakaway force at low speed, made smooth through zero
+// speed (tanh) so that the stiff integrator never has to locate a stick event.
+inline constexpr double friction_smoothing_speed = 1e-4;  // m/s
+inline constexpr double stribeck_speed = 2e-3;            // m/s
+
+// Quantities derived from the parameters once per evaluation, with the fault
+// conditions folded in; a healthy machine gives model.md v1 exactly.
 struct Derived {
   double control_area;  // A_c
   double sensing_area;  // A_s
@@ -61,14 +69,32 @@ struct Derived {
   double full_flow;  // D_max N / 60, m^3/s
   double tan_max;
   double flow_force_gain;  // 2 Cd cos(69 deg), or 0 without flow forces
+  double leakage_coefficient;
+  double air_fraction;
+  double bias_force_at_full_stroke;
+  double bias_rate;
+  double setting;  // the pressure the spring preload balances
+  double line_volume;
+  double case_pressure;  // where the control chamber and the bleed drain
+  double coulomb_friction;
+  double breakaway_friction;
 
   explicit Derived(const ModelParameters& p)
       : control_area(pi / 4.0 * p.control_piston_diameter * p.control_piston_diameter),
         sensing_area(pi / 4.0 * p.spool_diameter * p.spool_diameter),
-        bleed_area(pi / 4.0 * p.bleed_diameter * p.bleed_diameter),
+        bleed_area(pi / 4.0 * p.bleed_diameter * p.bleed_diameter * p.fault_bleed_area_factor),
         full_flow(p.displacement * p.speed / 60.0),
         tan_max(std::tan(p.max_swash_angle)),
-        flow_force_gain(p.flow_forces ? 2.0 * p.spool_discharge_coefficient * std::cos(69.0 * pi / 180.0) : 0.0) {}
+        flow_force_gain(p.flow_forces ? 2.0 * p.spool_discharge_coefficient * std::cos(69.0 * pi / 180.0) : 0.0),
+        leakage_coefficient(p.leakage_coefficient * p.fault_leakage_factor),
+        air_fraction(std::min(p.air_fraction + p.fault_entrained_air, 0.5)),
+        bias_force_at_full_stroke(p.bias_force_at_full_stroke * p.fault_bias_strength),
+        bias_rate(p.bias_rate * p.fault_bias_strength),
+        setting(p.setting * (1.0 - p.fault_setting_drift)),
+        line_volume(p.line_volume * p.fault_line_volume_factor),
+        case_pressure(p.tank_pressure + p.fault_case_pressure),
+        coulomb_friction(p.fault_spool_friction),
+        breakaway_friction(p.fault_spool_friction * p.fault_stiction_ratio) {}
 };
 
 // Every flow of the model at one state, m^3/s.
@@ -97,15 +123,15 @@ FlowsOf<T> flows(const ModelParameters& p, const Derived& d, const StateOf<T>& x
 
   FlowsOf<T> f;
   f.geometric = d.full_flow * tan(a) / d.tan_max;
-  f.leakage = p.leakage_coefficient * p_d;
+  f.leakage = d.leakage_coefficient * p_d;
   const T open_in = p.underlap + x_s;
   const T open_out = p.underlap - x_s;
   f.metering_area_in = open_in > 0.0 ? T(p.port_width * open_in) : T(0.0);
   f.metering_area_out = open_out > 0.0 ? T(p.port_width * open_out) : T(0.0);
   const double cd = p.spool_discharge_coefficient;
   f.to_control = orifice_flow(cd, f.metering_area_in, T(p_d - p_c), rho, dp_tr);
-  f.control_to_case = orifice_flow(cd, f.metering_area_out, T(p_c - p.tank_pressure), rho, dp_tr);
-  f.bleed = orifice_flow(cd, T(d.bleed_area), T(p_c - p.tank_pressure), rho, dp_tr);
+  f.control_to_case = orifice_flow(cd, f.metering_area_out, T(p_c - d.case_pressure), rho, dp_tr);
+  f.bleed = orifice_flow(cd, T(d.bleed_area), T(p_c - d.case_pressure), rho, dp_tr);
   f.load =
       orifice_flow(p.valve_discharge_coefficient, T(p.opening * p.valve_area), T(p_d - p.tank_pressure), rho, dp_tr);
   return f;
@@ -116,7 +142,7 @@ FlowsOf<T> flows(const ModelParameters& p, const Derived& d, const StateOf<T>& x
 template <class T>
 T swash_static_moment(const ModelParameters& p, const Derived& d, const StateOf<T>& x) {
   const T bias_force =
-      p.bias_force_at_full_stroke + p.bias_rate * p.bias_arm * (p.max_swash_angle - x[state::swash_angle]);
+      d.bias_force_at_full_stroke + d.bias_rate * p.bias_arm * (p.max_swash_angle - x[state::swash_angle]);
   return p.bias_arm * bias_force - p.control_piston_arm * d.control_area * x[state::control_pressure] -
          p.pressure_moment * x[state::discharge_pressure];
 }
@@ -124,19 +150,30 @@ T swash_static_moment(const ModelParameters& p, const Derived& d, const StateOf<
 // Steady flow force on the spool: a 69 degree jet tends to close each
 // metering edge, F = 2 Cd cos(69 deg) A dp (Merritt 1967, ch. 5).
 template <class T>
-T spool_flow_force(const ModelParameters& p, const Derived& d, const FlowsOf<T>& f, const StateOf<T>& x) {
+T spool_flow_force(const Derived& d, const FlowsOf<T>& f, const StateOf<T>& x) {
   if (d.flow_force_gain == 0.0) return T(0.0);
   const T& p_d = x[state::discharge_pressure];
   const T& p_c = x[state::control_pressure];
-  return d.flow_force_gain * (-f.metering_area_in * (p_d - p_c) + f.metering_area_out * (p_c - p.tank_pressure));
+  return d.flow_force_gain * (-f.metering_area_in * (p_d - p_c) + f.metering_area_out * (p_c - d.case_pressure));
 }
 
 // Net force on the spool with its velocity set to zero (positive opens
 // discharge -> control chamber).
 template <class T>
 T spool_static_force(const ModelParameters& p, const Derived& d, const FlowsOf<T>& f, const StateOf<T>& x) {
-  return d.sensing_area * (x[state::discharge_pressure] - p.setting) - p.spool_spring_rate * x[state::spool_position] +
-         spool_flow_force(p, d, f, x);
+  return d.sensing_area * (x[state::discharge_pressure] - d.setting) - p.spool_spring_rate * x[state::spool_position] +
+         spool_flow_force(d, f, x);
+}
+
+// Friction force on a spool moving at v (opposes the motion).
+template <class T>
+T spool_friction(const Derived& d, const T& v) {
+  if (d.coulomb_friction == 0.0) return T(0.0);
+  using std::exp;
+  using std::tanh;
+  const T ratio = v / stribeck_speed;
+  const T level = d.coulomb_friction + (d.breakaway_friction - d.coulomb_friction) * exp(T(-ratio * ratio));
+  return T(-level * tanh(T(v / friction_smoothing_speed)));
 }
 
 // dx/dt of model.md. A coordinate held at a stop has zero rates.
@@ -149,13 +186,13 @@ StateOf<T> derivatives(const ModelParameters& p, const Derived& d, const StopMod
   const T& w = x[state::swash_velocity];
   const T& v_s = x[state::spool_velocity];
 
-  const T beta_d = effective_bulk_modulus(p_d, p.bulk_modulus, p.air_fraction, p.polytropic_index);
-  const T beta_c = effective_bulk_modulus(p_c, p.bulk_modulus, p.air_fraction, p.polytropic_index);
+  const T beta_d = effective_bulk_modulus(p_d, p.bulk_modulus, d.air_fraction, p.polytropic_index);
+  const T beta_c = effective_bulk_modulus(p_c, p.bulk_modulus, d.air_fraction, p.polytropic_index);
   const double piston_moment_arm_area = d.control_area * p.control_piston_arm;
   const T control_volume = p.control_dead_volume + piston_moment_arm_area * (p.max_swash_angle - a);
 
   StateOf<T> dx;
-  dx[state::discharge_pressure] = beta_d / p.line_volume * (f.geometric - f.leakage - f.to_control - f.load);
+  dx[state::discharge_pressure] = beta_d / d.line_volume * (f.geometric - f.leakage - f.to_control - f.load);
   dx[state::control_pressure] =
       beta_c / control_volume * (f.to_control - f.control_to_case - f.bleed + piston_moment_arm_area * w);
 
@@ -168,7 +205,8 @@ StateOf<T> derivatives(const ModelParameters& p, const Derived& d, const StopMod
   }
   if (modes.spool == Stop::free) {
     dx[state::spool_position] = v_s;
-    dx[state::spool_velocity] = (spool_static_force(p, d, f, x) - p.spool_damping * v_s) / p.spool_mass;
+    dx[state::spool_velocity] =
+        (spool_static_force(p, d, f, x) - p.spool_damping * v_s + spool_friction(d, v_s)) / p.spool_mass;
   } else {
     dx[state::spool_position] = T(0.0);
     dx[state::spool_velocity] = T(0.0);

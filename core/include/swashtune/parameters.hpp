@@ -56,6 +56,17 @@ struct ModelParameters {
   double opening = 0;
   // numerics of the orifice law
   double transition_pressure = 0;
+  // fault conditions (troubleshooting studies); the defaults are a healthy
+  // machine, for which the model is exactly model.md v1
+  double fault_leakage_factor = 0;
+  double fault_entrained_air = 0;
+  double fault_bleed_area_factor = 0;
+  double fault_bias_strength = 0;
+  double fault_spool_friction = 0;
+  double fault_stiction_ratio = 0;
+  double fault_setting_drift = 0;
+  double fault_line_volume_factor = 0;
+  double fault_case_pressure = 0;
 };
 
 // Settings of a run that are not physics.
