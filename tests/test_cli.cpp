@@ -203,3 +203,20 @@ TEST_F(Cli, StabilityMapAndBodeFile) {
   ASSERT_EQ(map.exit_code, 0) << map.err;
   EXPECT_EQ(std::count(map.out.begin(), map.out.end(), '{') - 3, 6);  // 3 x 2 points, besides the outer and axes
 }
+
+TEST_F(Cli, FieldAndFitCommands) {
+  const std::string field = std::string(SWASHTUNE_SOURCE_DIR) + "/scenarios/field/";
+  const Outcome hunting = cli("field " + field + "line2-pusher-hunting.csv --json");
+  ASSERT_EQ(hunting.exit_code, 0) << hunting.err;
+  EXPECT_NE(hunting.out.find("\"kind\": \"sustained oscillation\""), std::string::npos) << hunting.out;
+  const Outcome bad = cli("field " + std::string(SWASHTUNE_SOURCE_DIR) + "/tests/data/field/bad_text_in_number.csv");
+  EXPECT_EQ(bad.exit_code, 2);
+  EXPECT_NE(bad.err.find("bad_text_in_number.csv:"), std::string::npos) << bad.err;
+  const fs::path fitted = dir_ / "fitted.toml";
+  const Outcome fit = cli("fit " + std::string(SWASHTUNE_SOURCE_DIR) + "/scenarios/valve-slam.toml --trace " + field +
+                          "log-turner-slam.csv --free faults.entrained_air --json --out " + fitted.string());
+  ASSERT_EQ(fit.exit_code, 0) << fit.err;
+  EXPECT_NE(fit.out.find("\"key\": \"faults.entrained_air\""), std::string::npos);
+  EXPECT_NE(slurp(fitted).find("entrained_air"), std::string::npos);
+  EXPECT_EQ(cli("fit " + demo + " --trace " + field + "log-turner-slam.csv --free no.such").exit_code, 2);
+}

@@ -1,4 +1,5 @@
 // The desktop program as a person uses it, offscreen (Qt Test).
+#include <QCheckBox>
 #include <QComboBox>
 #include <QDoubleSpinBox>
 #include <QImage>
@@ -6,6 +7,7 @@
 #include <QJsonObject>
 #include <QProcess>
 #include <QPushButton>
+#include <QSignalSpy>
 #include <QSlider>
 #include <QSpinBox>
 #include <QStandardPaths>
@@ -21,6 +23,7 @@
 #include "swashtune/metrics.hpp"
 #include "swashtune/simulator.hpp"
 #include "trace_view.hpp"
+#include "troubleshooting_panel.hpp"
 
 using namespace swashtune;
 using namespace swashtune::ui;
@@ -211,6 +214,64 @@ class DesktopTest : public QObject {
     QVERIFY(!w.exportCharts(dir.filePath("c.bmpx")));
     QVERIFY(w.runStudyToEnd());
     QCOMPARE(w.traces()->overlayCount(), 1);
+  }
+
+  // Faults switch on and off through events while the pump runs.
+  void faultSwitchesActThroughEvents() {
+    MainWindow w(quiet());
+    w.openStudy(Scenario{}, QString());
+    TroubleshootingPanel* t = w.troubleshooting();
+    QVERIFY(t->faultSwitch("faults.spool_friction") != nullptr);
+    t->faultSeverity("faults.spool_friction")->setValue(12.0);  // N; nothing yet, it is off
+    QVERIFY(w.session()->sessionScenario().events.empty());
+    t->faultSwitch("faults.spool_friction")->setChecked(true);
+    Scenario s = w.session()->sessionScenario();
+    QCOMPARE(QString::fromStdString(last_event(s).target), QString("faults.spool_friction"));
+    QCOMPARE(last_event(s).to, 12.0);
+    QVERIFY(w.session()->advanceNow(0.02));
+    t->faultSwitch("faults.spool_friction")->setChecked(false);
+    QCOMPARE(w.session()->sessionScenario().events.back().to, 0.0);  // healthy again
+    QCOMPARE(w.session()->parametersNow().fault_spool_friction, 0.0);
+  }
+
+  // A recording is overlaid and analysed beside the simulation; a bad one is
+  // refused with its row named and the previous recording kept.
+  void recordingIsOverlaidAndAnalysedSideBySide() {
+    MainWindow w(quiet());
+    QVERIFY(w.openFile(QStringLiteral(SWASHTUNE_SOURCE_DIR "/scenarios/hunting-oversized-damping-orifice.toml")));
+    TroubleshootingPanel* t = w.troubleshooting();
+    QVERIFY(t->loadRecording(QStringLiteral(SWASHTUNE_SOURCE_DIR "/scenarios/field/line2-pusher-hunting.csv")));
+    QCOMPARE(w.traces()->overlayCount(), 1);
+    QVERIFY2(t->recordingAnalysisText().startsWith("sustained oscillation"), qPrintable(t->recordingAnalysisText()));
+    QVERIFY2(t->simulatedAnalysisText().startsWith("sustained oscillation"), qPrintable(t->simulatedAnalysisText()));
+    QVERIFY(!t->loadRecording(QStringLiteral(SWASHTUNE_SOURCE_DIR "/tests/data/field/bad_time_order.csv")));
+    QVERIFY(t->lastMessage().contains("bad_time_order.csv:7"));
+    QVERIFY(t->recording()->source.find("line2-pusher-hunting") != std::string::npos);
+  }
+
+  // The fit runs in the background with progress, can be cancelled, and its
+  // result can become the study.
+  void fitRunsCancelsAndApplies() {
+    MainWindow w(quiet());
+    QVERIFY(w.openFile(demo));
+    TroubleshootingPanel* t = w.troubleshooting();
+    QVERIFY(t->loadRecording(QStringLiteral(SWASHTUNE_SOURCE_DIR "/scenarios/field/log-turner-slam.csv")));
+    t->setFreeKeys({"faults.entrained_air"});
+    QSignalSpy finished(t, &TroubleshootingPanel::fitFinished);
+    QVERIFY(t->startFit(w.study()));
+    t->cancelFit();
+    QVERIFY(finished.wait(60000));
+    QVERIFY(t->fitResult() && t->fitResult()->cancelled);
+
+    QVERIFY(t->startFit(w.study()));
+    QVERIFY(finished.wait(120000));
+    QVERIFY(t->fitResult() && t->fitResult()->converged);
+    const FittedParameter& air = t->fitResult()->parameters.front();
+    // The recording was made (scenarios/field) with 3 % air: the fit must find it.
+    QVERIFY2(std::abs(air.value - 0.03) < 3 * air.standard_error + 1e-4,
+             qPrintable(QString("%1 +- %2").arg(air.value).arg(air.standard_error)));
+    emit t->applyFitRequested(t->fitResult()->fitted);
+    QCOMPARE(w.study().parameters.fault_entrained_air, air.value);
   }
 
   // swashtune --screenshot renders the window with traces drawn.

@@ -23,6 +23,7 @@
 #include <QUndoStack>
 #include <QVBoxLayout>
 #include <cmath>
+#include <limits>
 
 #include "control_panel.hpp"
 #include "margins_view.hpp"
@@ -33,6 +34,7 @@
 #include "swashtune/results_io.hpp"
 #include "swashtune/safety.hpp"
 #include "trace_view.hpp"
+#include "troubleshooting_panel.hpp"
 
 namespace swashtune::ui {
 namespace {
@@ -60,6 +62,7 @@ MainWindow::MainWindow(Options options, QWidget* parent)
       margins_(new MarginsView),
       editor_(new ParameterEditor),
       controls_(new ControlPanel),
+      troubleshooting_(new TroubleshootingPanel),
       side_tabs_(new QTabWidget),
       warning_(new QLabel),
       status_time_(new QLabel),
@@ -84,6 +87,10 @@ MainWindow::MainWindow(Options options, QWidget* parent)
   side_tabs_->addTab(margins_, tr("Loop margins"));
   side_tabs_->addTab(pressure_flow_, tr("Pressure-flow"));
   side_tabs_->addTab(editor_, tr("Parameters"));
+  auto* trouble_scroll = new QScrollArea;
+  trouble_scroll->setWidget(troubleshooting_);
+  trouble_scroll->setWidgetResizable(true);
+  side_tabs_->addTab(trouble_scroll, tr("Troubleshooting"));
   splitter->addWidget(side_tabs_);
   splitter->setStretchFactor(0, 3);
   splitter->setStretchFactor(1, 2);
@@ -106,6 +113,29 @@ MainWindow::MainWindow(Options options, QWidget* parent)
   buildMenus();
 
   connect(controls_, &ControlPanel::changeRequested, this, &MainWindow::applyChange);
+  connect(troubleshooting_, &TroubleshootingPanel::changeRequested, this, &MainWindow::applyChange);
+  connect(troubleshooting_, &TroubleshootingPanel::recordingLoaded, this, [this] {
+    // Recorded pressure (and flow) over the live traces; what was not
+    // recorded stays empty (NaN draws nothing).
+    const FieldTrace& r = *troubleshooting_->recording();
+    std::vector<Sample> samples(r.time.size());
+    const double none = std::numeric_limits<double>::quiet_NaN();
+    for (std::size_t i = 0; i < r.time.size(); ++i) {
+      Sample& s = samples[i];
+      s.time = r.time[i];
+      s.x.setConstant(none);
+      s.x[state::discharge_pressure] = r.pressure[i];
+      s.pump_flow = none;
+      s.load_flow = r.flow.empty() ? none : r.flow[i];
+    }
+    traces_->addOverlay(tr("recorded: %1").arg(QFileInfo(QString::fromStdString(r.source)).fileName()), samples);
+    compareWithRecording();
+  });
+  connect(troubleshooting_, &TroubleshootingPanel::applyFitRequested, this, [this](const Scenario& fitted) {
+    openStudy(fitted, QString());
+    setModified(true);
+    statusBar()->showMessage(tr("The study now uses the fitted values"), 5000);
+  });
   connect(controls_, &ControlPanel::runRequested, this,
           [this](bool run) { run ? session_->start() : session_->pause(); });
   connect(controls_, &ControlPanel::stepRequested, this, [this] {
@@ -273,6 +303,7 @@ void MainWindow::setUnits(UnitSystem system) {
   margins_->setUnits(system);
   editor_->setUnits(system);
   controls_->setUnits(system);
+  troubleshooting_->setUnits(system);
   QSettings().setValue("units", system == UnitSystem::us ? "us" : "metric");
   if (QAction* a = findChild<QAction*>(system == UnitSystem::us ? "units-us" : "units-metric")) a->setChecked(true);
   refreshAnalysis(true);
@@ -421,7 +452,9 @@ void MainWindow::onDisplayTick() {
   const ModelParameters present = session_->parametersNow();
   if (!shown_ || !same_parameters(*shown_, present)) {
     controls_->showParameters(present);
+    troubleshooting_->showParameters(present);
     shown_ = present;
+    compareWithRecording();  // a fault may have been switched
   }
   const Sample latest = session_->latest();
   const SolverStats stats = session_->solverStats();
@@ -430,7 +463,38 @@ void MainWindow::onDisplayTick() {
                             .arg(session_->running() ? tr("running") : tr("held"))
                             .arg(stats.steps));
   status_rate_->setText(tr("%1 frames/s").arg(fps_, 0, 'f', 0));
+
   refreshAnalysis(false);
+}
+
+void MainWindow::compareWithRecording() {
+  const auto& recording = troubleshooting_->recording();
+  if (!recording) return;
+  // The study as scripted, with the faults switched as they are now, run
+  // over the recording's time at the recording's resolution: the live trace
+  // is sampled for the eye (1 ms at real time) and would hide fast hunting.
+  Scenario s = study_;
+  const ModelParameters now = session_->parametersNow();
+  for (const ParameterSpec& spec : parameter_registry())
+    if (spec.key.substr(0, 7) == "faults.") spec.set(s.parameters, spec.get(now));
+  const std::vector<double>& t = recording->time;
+  s.settings.duration = std::max(s.settings.duration, t.back());
+  double finest = s.settings.sample_interval;
+  for (std::size_t i = 1; i < t.size(); ++i) finest = std::min(finest, t[i] - t[i - 1]);
+  s.settings.sample_interval = std::max(finest, 1e-6);
+  try {
+    const RunResult run = run_scenario(s);
+    std::vector<double> times, pressures;
+    for (const Sample& x : run.trace)
+      if (x.time >= t.front() && x.time <= t.back()) {
+        times.push_back(x.time);
+        pressures.push_back(x.x[state::discharge_pressure]);
+      }
+    troubleshooting_->showSimulatedAnalysis(analyse_oscillation(times, pressures));
+  } catch (const std::exception& e) {
+    troubleshooting_->showSimulatedAnalysis(OscillationReport{});
+    statusBar()->showMessage(tr("Could not compare with the recording: %1").arg(e.what()), 8000);
+  }
 }
 
 void MainWindow::refreshNow() {

@@ -24,6 +24,7 @@ class PressureFlowView;
 class MarginsView;
 class ParameterEditor;
 class ControlPanel;
+class TroubleshootingPanel;
 
 class MainWindow : public QMainWindow {
   Q_OBJECT
@@ -54,6 +55,10 @@ class MainWindow : public QMainWindow {
   PressureFlowView* pressureFlow() const { return pressure_flow_; }
   ParameterEditor* parameters() const { return editor_; }
   ControlPanel* controls() const { return controls_; }
+  TroubleshootingPanel* troubleshooting() const { return troubleshooting_; }
+  // The simulated pressure's oscillation over the loaded recording's span:
+  // the study with the present faults, run at the recording's resolution.
+  void compareWithRecording();
   bool warningShown() const;
   QString warningText() const;
   QString lastError() const { return last_error_; }
@@ -90,6 +95,7 @@ class MainWindow : public QMainWindow {
   MarginsView* margins_;
   ParameterEditor* editor_;
   ControlPanel* controls_;
+  TroubleshootingPanel* troubleshooting_;
   QTabWidget* side_tabs_;
   QLabel* warning_;
   QLabel* status_time_;

@@ -1,4 +1,6 @@
 // swashtune-cli: argument parsing and wiring only; everything numeric is in core.
+#include <unistd.h>
+
 #include <CLI/CLI.hpp>
 #include <cstdio>
 #include <filesystem>
@@ -8,7 +10,10 @@
 
 #include "swashtune/analysis.hpp"
 #include "swashtune/atomic_file.hpp"
+#include "swashtune/field_trace.hpp"
+#include "swashtune/fit.hpp"
 #include "swashtune/metrics.hpp"
+#include "swashtune/oscillation.hpp"
 #include "swashtune/results_io.hpp"
 #include "swashtune/safety.hpp"
 #include "swashtune/scenario.hpp"
@@ -222,6 +227,85 @@ int steady_command(const std::string& scenario_path, int points, bool json, cons
   return exit_ok;
 }
 
+void add_trace_options(CLI::App* command, FieldTraceOptions& o) {
+  command->add_option("--time-column", o.time_column, "Time column: header name or 1-based number");
+  command->add_option("--pressure-column", o.pressure_column, "Pressure column: header name or 1-based number");
+  command->add_option("--flow-column", o.flow_column, "Flow column (\"none\" to ignore one)");
+  command->add_option("--time-unit", o.time_unit, "Unit of the time column, e.g. ms (default: from the header)");
+  command->add_option("--pressure-unit", o.pressure_unit, "Unit of the pressure column, e.g. psi (gauge)");
+  command->add_option("--flow-unit", o.flow_unit, "Unit of the flow column, e.g. L/min");
+}
+
+int field_command(const std::string& path, const FieldTraceOptions& options, std::optional<double> from,
+                  std::optional<double> to, bool json) {
+  const FieldTrace trace = read_field_trace(path, options);
+  const OscillationReport o = analyse_oscillation(trace.time, trace.pressure, from, to);
+  if (json) {
+    std::cout << "{\n  \"source\": " << json_string(trace.source) << ",\n  \"samples\": " << trace.time.size()
+              << ",\n  \"time_from_s\": " << json_number(trace.time.front())
+              << ",\n  \"time_to_s\": " << json_number(trace.time.back())
+              << ",\n  \"oscillation\": " << oscillation_json(o) << "\n}\n";
+    return exit_ok;
+  }
+  std::printf("%s: %zu samples from %.6g s to %.6g s (time from \"%s\", pressure from \"%s\")\n", trace.source.c_str(),
+              trace.time.size(), trace.time.front(), trace.time.back(), trace.time_header.c_str(),
+              trace.pressure_header.c_str());
+  std::printf("pressure: %s", to_string(o.kind));
+  if (o.kind != OscillationKind::settled)
+    std::printf(" at %.4g Hz, %.3g bar peak to peak, damping ratio %.4f, envelope %+.3g 1/s over %d cycles",
+                o.frequency_hz, o.peak_to_peak * 1e-5, o.damping_ratio, o.growth_rate, o.cycles);
+  std::printf("; mean %.2f bar, noise %.3g bar\n", o.mean * 1e-5, o.noise * 1e-5);
+  return exit_ok;
+}
+
+int fit_command(const std::string& scenario_path, const std::string& trace_path, const FieldTraceOptions& trace_options,
+                const std::string& free, bool json, const std::string& out_path) {
+  const Scenario scenario = load_scenario(scenario_path);
+  const FieldTrace trace = read_field_trace(trace_path, trace_options);
+  FitOptions options;
+  std::string rest = free;
+  while (!rest.empty()) {
+    const auto comma = rest.find(',');
+    options.free_keys.push_back(rest.substr(0, comma));
+    rest = comma == std::string::npos ? "" : rest.substr(comma + 1);
+  }
+  const bool terminal = ::isatty(::fileno(stderr)) != 0;  // progress only where a person watches
+  const FitResult fit = fit_to_trace(scenario, trace, options, [terminal](int simulations, double rms) {
+    if (terminal) std::fprintf(stderr, "\rfit: %d simulations, rms residual %.4g bar   ", simulations, rms * 1e-5);
+    return true;
+  });
+  if (terminal) std::fprintf(stderr, "\n");
+  if (!out_path.empty()) write_file_atomically(out_path, scenario_to_toml(fit.fitted));
+  if (json) {
+    std::cout << "{\n  \"parameters\": [";
+    for (std::size_t i = 0; i < fit.parameters.size(); ++i) {
+      const FittedParameter& p = fit.parameters[i];
+      std::cout << (i ? ",\n    " : "\n    ") << "{ \"key\": " << json_string(p.key)
+                << ", \"initial\": " << json_number(p.initial) << ", \"fitted\": " << json_number(p.value)
+                << ", \"standard_error\": " << json_number(p.standard_error)
+                << ", \"identifiable\": " << (p.identifiable ? "true" : "false")
+                << ", \"note\": " << json_string(p.note) << " }";
+    }
+    std::cout << "\n  ],\n  \"initial_rms_residual_Pa\": " << json_number(fit.initial_rms)
+              << ",\n  \"rms_residual_Pa\": " << json_number(fit.rms) << ",\n  \"samples\": " << fit.samples
+              << ",\n  \"simulations\": " << fit.simulations
+              << ",\n  \"converged\": " << (fit.converged ? "true" : "false")
+              << ",\n  \"message\": " << json_string(fit.message) << "\n}\n";
+    return exit_ok;
+  }
+  std::printf("fit of %s to %s (%d samples, %d simulations): %s\n", scenario_path.c_str(), trace.source.c_str(),
+              fit.samples, fit.simulations, fit.message.c_str());
+  for (const FittedParameter& p : fit.parameters) {
+    const std::string unit(find_parameter(p.key)->unit);
+    std::printf("  %-32s %.6g -> %.6g +- %.2g %s%s%s\n", p.key.c_str(), p.initial, p.value, p.standard_error,
+                unit == "-" ? "" : unit.c_str(), p.note.empty() ? "" : "  (",
+                p.note.empty() ? "" : (p.note + ")").c_str());
+  }
+  std::printf("rms residual %.4g bar (was %.4g bar)\n", fit.rms * 1e-5, fit.initial_rms * 1e-5);
+  std::printf("%s\n", safety_notice_short);
+  return exit_ok;
+}
+
 // The registry as a table: one place for every parameter's facts.
 int parameters_command(bool markdown) {
   auto describe = [](const auto& spec) {
@@ -296,6 +380,29 @@ int main(int argc, char** argv) {
   steady->add_flag("--json", json, "Print JSON (SI)");
   steady->add_option("--units", units_name, "Units of the table: si, metric or us")->capture_default_str();
 
+  FieldTraceOptions trace_options;
+  std::string trace_path, free_keys, fitted_path;
+  std::optional<double> window_from, window_to;
+  CLI::App* field =
+      app.add_subcommand("field", "Read a pressure trace recorded on a machine and analyse its oscillation");
+  field->add_option("TRACE", trace_path, "CSV file: time and pressure columns (comma, semicolon or tab)")->required();
+  field->add_option("--from", window_from, "Analyse from this time, s");
+  field->add_option("--to", window_to, "Analyse up to this time, s");
+  field->add_flag("--json", json, "Print JSON (SI)");
+  add_trace_options(field, trace_options);
+
+  CLI::App* fit =
+      app.add_subcommand("fit", "Estimate parameters so the simulated pressure reproduces a recorded trace");
+  fit->add_option("SCENARIO", scenario_path,
+                  "Scenario that reproduces the recording's events (its time is the trace's)")
+      ->required();
+  fit->add_option("--trace", trace_path, "Recorded trace (CSV)")->required();
+  fit->add_option("--free", free_keys, "Parameters to estimate, comma-separated, e.g. line.volume,fluid.air_fraction")
+      ->required();
+  fit->add_option("--out", fitted_path, "Also write the scenario with the fitted values to this file");
+  fit->add_flag("--json", json, "Print JSON (SI)");
+  add_trace_options(fit, trace_options);
+
   bool markdown = false;
   CLI::App* parameters =
       app.add_subcommand("parameters", "List every parameter and setting with unit, default and range");
@@ -318,7 +425,15 @@ int main(int argc, char** argv) {
     if (*parameters) return parameters_command(markdown);
     if (*stability) return stability_command(scenario_path, opening, json, map_axes, bode_path, units_name);
     if (*steady) return steady_command(scenario_path, points, json, units_name);
+    if (*field) return field_command(trace_path, trace_options, window_from, window_to, json);
+    if (*fit) return fit_command(scenario_path, trace_path, trace_options, free_keys, json, fitted_path);
   } catch (const ScenarioError& e) {
+    std::cerr << e.what() << "\n";
+    return exit_bad_input;
+  } catch (const FieldTraceError& e) {
+    std::cerr << e.what() << "\n";
+    return exit_bad_input;
+  } catch (const std::invalid_argument& e) {
     std::cerr << e.what() << "\n";
     return exit_bad_input;
   } catch (const FileError& e) {

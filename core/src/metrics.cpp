@@ -54,7 +54,26 @@ double response_time(const std::vector<Sample>& trace, double start, double end,
   return end - start;
 }
 
+OscillationReport window_oscillation(const std::vector<Sample>& trace, double start, double end,
+                                     const OscillationOptions& options) {
+  std::vector<double> t, p;
+  for (const Sample& s : trace)
+    if (s.time >= start && s.time <= end) {
+      t.push_back(s.time);
+      p.push_back(discharge_pressure_of(s));
+    }
+  if (t.size() < 16) return OscillationReport{};  // too short a window to say anything
+  return analyse_oscillation(t, p, std::nullopt, std::nullopt, options);
+}
+
 }  // namespace
+
+OscillationOptions window_oscillation_options(const ModelParameters& p, double /*window*/) {
+  OscillationOptions o;
+  o.skip_fraction = 0.02;
+  o.amplitude_floor = 1e-3 * std::max(p.setting, 1e6);
+  return o;
+}
 
 std::vector<EventMetrics> event_metrics(const Scenario& scenario, const RunResult& result) {
   std::vector<EventMetrics> out;
@@ -80,6 +99,7 @@ std::vector<EventMetrics> event_metrics(const Scenario& scenario, const RunResul
     const double a0 = trace_value_at(trace, start, swash_angle_of);
     const double a1 = trace_value_at(trace, end, swash_angle_of);
     m.swash_response_time = response_time(trace, start, end, a0, a1, 1e-3 * scenario.parameters.max_swash_angle);
+    m.oscillation = window_oscillation(trace, start, end, window_oscillation_options(scenario.parameters, end - start));
     out.push_back(m);
   }
   return out;

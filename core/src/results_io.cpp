@@ -103,6 +103,17 @@ std::string json_number(double value) {
 
 std::string json_string(std::string_view text) { return detail::string_literal(text); }
 
+std::string oscillation_json(const OscillationReport& r) {
+  std::ostringstream o;
+  o << "{ \"kind\": " << json_string(to_string(r.kind)) << ", \"frequency_Hz\": " << json_number(r.frequency_hz)
+    << ", \"peak_to_peak\": " << json_number(r.peak_to_peak)
+    << ", \"growth_rate_per_s\": " << json_number(r.growth_rate)
+    << ", \"log_decrement\": " << json_number(r.log_decrement)
+    << ", \"damping_ratio\": " << json_number(r.damping_ratio) << ", \"cycles\": " << r.cycles
+    << ", \"noise\": " << json_number(r.noise) << ", \"mean\": " << json_number(r.mean) << " }";
+  return o.str();
+}
+
 std::string summary_json(const Scenario& scenario, const RunResult& result, const std::vector<EventMetrics>& events) {
   const Sample last = result.trace.empty() ? Sample{} : result.trace.back();
   std::ostringstream o;
@@ -124,7 +135,8 @@ std::string summary_json(const Scenario& scenario, const RunResult& result, cons
       << ", \"peak_discharge_pressure_Pa\": " << json_number(e.peak_discharge_pressure)
       << ", \"overshoot_percent\": " << json_number(e.overshoot_percent)
       << ", \"settling_time_s\": " << json_number(e.settling_time)
-      << ", \"swash_response_time_s\": " << json_number(e.swash_response_time) << " }";
+      << ", \"swash_response_time_s\": " << json_number(e.swash_response_time)
+      << ",\n      \"oscillation\": " << oscillation_json(e.oscillation) << " }";
   }
   o << (events.empty() ? "],\n" : "\n  ],\n");
   o << "  \"initial_state\": {\n";

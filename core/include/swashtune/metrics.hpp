@@ -4,6 +4,7 @@
 #include <string>
 #include <vector>
 
+#include "swashtune/oscillation.hpp"
 #include "swashtune/scenario.hpp"
 #include "swashtune/simulator.hpp"
 
@@ -16,7 +17,13 @@ struct EventMetrics {
   double overshoot_percent = 0.0;        // swing past the new level, % of the step
   double settling_time = 0.0;            // s after the event, +-2 % band
   double swash_response_time = 0.0;      // s after the event, 90 % of the swash change
+  OscillationReport oscillation;         // of the discharge pressure over the window
 };
+
+// How an event window's pressure is examined for oscillation: the first 5 %
+// (the event itself) is skipped; swings below 0.1 % of the setting count as
+// none (a simulated trace has no measurement noise to set that floor).
+OscillationOptions window_oscillation_options(const ModelParameters& p, double window);
 
 // Window i runs from event i to event i+1 (or the end of the run). Peaks and
 // minima come from every solver step (RunResult), the rest from the trace.

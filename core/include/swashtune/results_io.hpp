@@ -33,6 +33,10 @@ std::string column_header(const TraceColumn& column, UnitSystem units);
 
 std::string trace_csv(const std::vector<Sample>& trace, UnitSystem units);
 
+// An oscillation report as a JSON object (peak_to_peak, noise and mean in the
+// signal's own SI unit).
+std::string oscillation_json(const OscillationReport& report);
+
 std::string summary_json(const Scenario& scenario, const RunResult& result, const std::vector<EventMetrics>& events);
 
 // Analysis results as JSON (interfaces.md's keys first, SI units), with the
