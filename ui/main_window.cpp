@@ -309,6 +309,15 @@ void MainWindow::setUnits(UnitSystem system) {
   refreshAnalysis(true);
 }
 
+bool MainWindow::showSideTab(const QString& title) {
+  for (int i = 0; i < side_tabs_->count(); ++i)
+    if (side_tabs_->tabText(i).compare(title, Qt::CaseInsensitive) == 0) {
+      side_tabs_->setCurrentIndex(i);
+      return true;
+    }
+  return false;
+}
+
 void MainWindow::openStudy(const Scenario& study, const QString& path) {
   study_ = study;
   path_ = path;

@@ -66,6 +66,8 @@ class MainWindow : public QMainWindow {
   bool isModified() const { return modified_; }
   UnitSystem units() const { return units_; }
   void setUnits(UnitSystem system);
+  // Brings a side tab forward by its title ("Loop margins", "Troubleshooting", ...).
+  bool showSideTab(const QString& title);
   double framesPerSecond() const { return fps_; }
   long long framesDrawn() const { return frames_drawn_; }  // display updates with new samples
 

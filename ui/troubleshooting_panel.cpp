@@ -56,11 +56,12 @@ TroubleshootingPanel::TroubleshootingPanel(QWidget* parent)
   int row = 0;
   for (const ParameterSpec& spec : parameter_registry()) {
     if (!is_fault(spec)) continue;
-    FaultRow f{&spec,
-               new QCheckBox(QString::fromUtf8(spec.meaning.data(), static_cast<int>(spec.meaning.size())), faults),
-               new QDoubleSpinBox(faults), spec.default_value};
+    // A short name on the box ("spool friction"), the full meaning as its tooltip.
+    const QString name = key_of(spec).mid(7).replace('_', ' ');
+    FaultRow f{&spec, new QCheckBox(name, faults), new QDoubleSpinBox(faults), spec.default_value};
     f.on->setObjectName(key_of(spec));
-    f.on->setToolTip(key_of(spec));
+    f.on->setToolTip(key_of(spec) + ": " +
+                     QString::fromUtf8(spec.meaning.data(), static_cast<int>(spec.meaning.size())));
     f.severity->setDecimals(4);
     f.severity->setKeyboardTracking(false);
     grid->addWidget(f.on, row, 0);

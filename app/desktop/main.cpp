@@ -58,7 +58,8 @@ int main(int argc, char** argv) {
       "measure", "Run live for SECONDS of wall time, print the display rate and CPU load, exit.", "SECONDS");
   const QCommandLineOption time_scale("time-scale", "With --measure: simulated per wall time, 1 down to 0.001.",
                                       "SCALE", "1");
-  parser.addOptions({screenshot, scenario, run_for, measure, time_scale});
+  const QCommandLineOption tab("tab", "With --screenshot: the side tab to show (e.g. \"Troubleshooting\").", "TITLE");
+  parser.addOptions({screenshot, scenario, run_for, measure, time_scale, tab});
   parser.addPositionalArgument("scenario", "Scenario file to open (same as --scenario).", "[FILE]");
   parser.process(app);
 
@@ -91,6 +92,8 @@ int main(int argc, char** argv) {
       return fail("--run-for: expected seconds from 0 to 3600", exit_bad_input);
     window.resize(1600, 1000);
     window.traces()->setWindowSeconds(std::max(seconds, 0.01));  // the whole run in view
+    if (parser.isSet(tab) && !window.showSideTab(parser.value(tab)))
+      return fail("--tab: no side tab called \"" + parser.value(tab) + "\"", exit_bad_input);
     window.show();
     QString error;
     if (!window.session()->advanceNow(seconds, &error)) return fail(error, exit_solver_failed);
