@@ -1,5 +1,6 @@
 #include "swashtune/results_io.hpp"
 
+#include <charconv>
 #include <cmath>
 #include <cstdio>
 #include <sstream>
@@ -86,8 +87,10 @@ std::string trace_csv(const std::vector<Sample>& trace, UnitSystem units) {
   for (const Sample& s : trace) {
     for (std::size_t i = 0; i < columns.size(); ++i) {
       if (i) out += ',';
-      std::snprintf(buffer, sizeof buffer, "%.10g", columns[i].read(s) * factor[i]);
-      out += buffer;
+      // to_chars: an order of magnitude faster than printf and locale-free.
+      const auto written =
+          std::to_chars(buffer, buffer + sizeof buffer, columns[i].read(s) * factor[i], std::chars_format::general, 10);
+      out.append(buffer, written.ptr);
     }
     out += '\n';
   }

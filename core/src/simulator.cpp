@@ -1,8 +1,6 @@
 #include "swashtune/simulator.hpp"
 
 #include <algorithm>
-#include <boost/numeric/odeint/stepper/rosenbrock4.hpp>
-#include <boost/numeric/odeint/stepper/rosenbrock4_controller.hpp>
 #include <chrono>
 #include <cmath>
 #include <limits>
@@ -10,16 +8,13 @@
 #include <sstream>
 #include <utility>
 
+#include "rosenbrock.hpp"
 #include "swashtune/analysis.hpp"
 
 namespace swashtune {
 namespace {
 
-namespace odeint = boost::numeric::odeint;
-namespace ublas = boost::numeric::ublas;
-using OdeVector = ublas::vector<double>;
-using OdeMatrix = ublas::matrix<double>;
-using Controller = odeint::rosenbrock4_controller<odeint::rosenbrock4<double>>;
+using Stepper = detail::Rosenbrock4<state::size>;
 
 constexpr double infinity = std::numeric_limits<double>::infinity();
 
@@ -75,14 +70,8 @@ class ScaledDynamics {
     return derived_;
   }
 
-  State physical(const OdeVector& z) const {
-    State x;
-    for (int i = 0; i < state::size; ++i) x[i] = z[i] * scale_[i];
-    return x;
-  }
-  void to_scaled(const State& x, OdeVector& z) const {
-    for (int i = 0; i < state::size; ++i) z[i] = x[i] / scale_[i];
-  }
+  State physical(const State& z) const { return z.cwiseProduct(scale_); }
+  State scaled(const State& x) const { return x.cwiseQuotient(scale_); }
 
   State rates(double t, const State& x) {
     ++stats_.rhs_evaluations;
@@ -90,20 +79,16 @@ class ScaledDynamics {
     return derivatives<double>(p, derived_, modes_, x);
   }
 
-  void rhs(const OdeVector& z, OdeVector& dz, double t) {
-    const State dx = rates(t, physical(z));
-    for (int i = 0; i < state::size; ++i) dz[i] = dx[i] / scale_[i];
-  }
+  // The stepper's view: rates and Jacobian in scaled states.
+  State rhs(double t, const State& z) { return scaled(rates(t, physical(z))); }
 
-  void jacobian(const OdeVector& z, OdeMatrix& jac, double t, OdeVector& dfdt) {
+  void jacobian(double t, const State& z, Jacobian& jac, State& dfdt) {
     ++stats_.jacobian_evaluations;
     const State x = physical(z);
     const ModelParameters& p = params(t);
-    const Jacobian j = swashtune::jacobian(p, derived_, modes_, x);
-    for (int r = 0; r < state::size; ++r)
-      for (int c = 0; c < state::size; ++c) jac(r, c) = j(r, c) * scale_[c] / scale_[r];
+    jac = scale_.cwiseInverse().asDiagonal() * swashtune::jacobian(p, derived_, modes_, x) * scale_.asDiagonal();
     if (ramps_.empty()) {
-      for (int i = 0; i < state::size; ++i) dfdt[i] = 0.0;
+      dfdt.setZero();
       return;
     }
     // Parameters are linear in t here, so a central difference is accurate.
@@ -111,7 +96,7 @@ class ScaledDynamics {
     const State up = rates(t + h, x);
     const State down = rates(t - h, x);
     params(t);
-    for (int i = 0; i < state::size; ++i) dfdt[i] = (up[i] - down[i]) / (2.0 * h) / scale_[i];
+    dfdt = scaled((up - down) / (2.0 * h));
   }
 
  private:
@@ -129,17 +114,6 @@ class ScaledDynamics {
   ModelParameters params_;
   Derived derived_;
   double params_time_ = 0.0;
-};
-
-struct RhsFunctor {
-  ScaledDynamics* dynamics;
-  void operator()(const OdeVector& z, OdeVector& dz, double t) const { dynamics->rhs(z, dz, t); }
-};
-struct JacobianFunctor {
-  ScaledDynamics* dynamics;
-  void operator()(const OdeVector& z, OdeMatrix& jac, double t, OdeVector& dfdt) const {
-    dynamics->jacobian(z, jac, t, dfdt);
-  }
 };
 
 // Which coordinate a stop guard watches and what it decides.
@@ -212,9 +186,6 @@ struct Simulator::Impl {
         t(t0),
         x(start.x),
         modes(start.modes),
-        z_old(state::size),
-        z_new(state::size),
-        z_work(state::size),
         next_sample(static_cast<long long>(std::ceil(t0 / s.sample_interval - 1e-9))) {
     const ModelParameters& p = initial;
     const Derived d(p);
@@ -233,11 +204,11 @@ struct Simulator::Impl {
   State scale;
   SolverStats stats;
   ScaledDynamics dynamics;
-  std::optional<Controller> controller;  // rebuilt at every restart: no stale error history
+  std::optional<Stepper> stepper;  // rebuilt at every restart: no stale error history
   double t;
   State x;
   StopModes modes;
-  OdeVector z_old, z_new, z_work;
+  State z_old, z_new;  // scaled states at the ends of the last accepted step
   double dt = 1e-6;
   double step_start = 0.0, step_end = 0.0;
   bool restart = true;
@@ -307,8 +278,7 @@ struct Simulator::Impl {
 
   // Dense output inside the last accepted step [step_start, step_end].
   State interpolate(double ts) {
-    controller->stepper().calc_state(ts, z_work, z_old, step_start, z_new, step_end);
-    return dynamics.physical(z_work);
+    return dynamics.physical(stepper->interpolate(ts, z_old, step_start, z_new, step_end));
   }
 
   // Earliest guard that switches within (t0, t1]: returns the time just past
@@ -420,16 +390,13 @@ struct Simulator::Impl {
         segment_end = stop_at;
       }
       if (restart) {
-        controller.emplace(settings.atol, settings.rtol);
+        stepper.emplace(settings.atol, settings.rtol);
         restart = false;
       }
-      dynamics.to_scaled(x, z_old);
+      z_old = dynamics.scaled(x);
       double step = std::min({dt, settings.max_step, stop_at - t});
       double t_try = t;
-      const RhsFunctor rhs{&dynamics};
-      const JacobianFunctor jac{&dynamics};
-      const auto result = controller->try_step(std::make_pair(rhs, jac), z_old, t_try, z_new, step);
-      if (result == odeint::fail) {
+      if (!stepper->try_step(dynamics, z_old, t_try, z_new, step)) {
         ++stats.rejected_steps;
         if (++rejected_in_a_row > 500 || step < 1e-14 * std::max(1.0, std::abs(t)))
           throw SolverError(t, "the step size collapsed (" + std::to_string(step) +
@@ -440,7 +407,6 @@ struct Simulator::Impl {
       }
       rejected_in_a_row = 0;
       ++stats.steps;
-      controller->stepper().prepare_dense_output();
       // try_step moved t_try to the step's end and proposed the next size.
       const double t0 = t;
       step_start = t;
