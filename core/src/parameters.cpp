@@ -86,7 +86,7 @@ std::vector<SettingSpec> make_settings() {
     {"scenario.settle_time_limit", "", "s", 5.0, Range{0.0, 1e3}, "simulated time allowed for reaching the initial steady state", "s", "s", &R::settle_time_limit},
     {"solver.rtol", "", "-", 1e-6, Range{1e-12, 1e-2}, "relative tolerance of the integrator", "-", "-", &R::rtol},
     {"solver.atol", "", "-", 1e-6, Range{1e-14, 1e-2}, "absolute tolerance, as a fraction of each state's scale", "-", "-", &R::atol},
-    {"solver.max_step", "", "s", 1e-3, Range{1e-7, 1.0}, "longest step the integrator may take", "ms", "ms", &R::max_step},
+    {"solver.max_step", "", "s", 5e-3, Range{1e-7, 1.0}, "longest step the integrator may take", "ms", "ms", &R::max_step},
   };
   // clang-format on
 }
