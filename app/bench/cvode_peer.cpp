@@ -1,0 +1,458 @@
+#include "cvode_peer.hpp"
+
+#include <cvode/cvode.h>
+#include <nvector/nvector_serial.h>
+#include <sundials/sundials_config.h>
+#include <sunlinsol/sunlinsol_dense.h>
+#include <sunmatrix/sunmatrix_dense.h>
+
+#include <algorithm>
+#include <array>
+#include <chrono>
+#include <cmath>
+#include <limits>
+#include <optional>
+#include <string>
+
+#include "swashtune/model.hpp"
+#include "swashtune/schedule.hpp"
+
+static_assert(SUNDIALS_VERSION_MAJOR == 6, "the CVODE peer is written for the SUNDIALS 6 API");
+
+namespace swashtune::bench {
+namespace {
+
+constexpr double infinity = std::numeric_limits<double>::infinity();
+
+// The parameters of one segment between schedule corners, linear in time
+// inside it. Built exactly as ScaledDynamics in core/src/simulator.cpp does,
+// so that both integrators see the same parameter values at the same times.
+class SegmentParameters {
+ public:
+  explicit SegmentParameters(const Schedule& schedule)
+      : schedule_(schedule), params_(schedule.initial()), derived_(params_) {}
+
+  void begin(double t0, double t1) {
+    segment_start_ = t0;
+    ramps_.clear();
+    params_ = schedule_.at(t0);
+    if (std::isfinite(t1) && t1 > t0 && schedule_.varies_between(t0, t1)) {
+      // Slopes from the start and the midpoint, both inside the segment's own
+      // linear piece (a step at t1 must not leak in).
+      const double tm = 0.5 * (t0 + t1);
+      const ModelParameters mid = schedule_.at(tm);
+      for (const ParameterSpec& spec : parameter_registry()) {
+        if (spec.is_flag()) continue;
+        const double v0 = spec.get(params_);
+        const double vm = spec.get(mid);
+        if (v0 != vm) ramps_.push_back(Ramp{&spec, v0, (vm - v0) / (tm - t0)});
+      }
+    }
+    derived_ = Derived(params_);
+    params_time_ = t0;
+  }
+
+  const ModelParameters& params(double t) {
+    if (!ramps_.empty() && t != params_time_) {
+      for (const Ramp& r : ramps_) r.spec->set(params_, r.start + r.slope * (t - segment_start_));
+      derived_ = Derived(params_);
+      params_time_ = t;
+    }
+    return params_;
+  }
+  const Derived& derived(double t) {
+    params(t);
+    return derived_;
+  }
+
+ private:
+  struct Ramp {
+    const ParameterSpec* spec;
+    double start;
+    double slope;
+  };
+  const Schedule& schedule_;
+  double segment_start_ = 0.0;
+  std::vector<Ramp> ramps_;
+  ModelParameters params_;
+  Derived derived_;
+  double params_time_ = 0.0;
+};
+
+// Which coordinate a stop guard watches and what it decides (as in
+// core/src/simulator.cpp).
+enum class Guard { swash_lower_hit, swash_upper_hit, swash_release, spool_lower_hit, spool_upper_hit, spool_release };
+
+// SUNDIALS objects, freed in reverse order of creation.
+struct CvodeHandles {
+  SUNContext context = nullptr;
+  N_Vector y = nullptr;
+  N_Vector abstol = nullptr;
+  N_Vector dense = nullptr;  // dense output at a sample time
+  SUNMatrix matrix = nullptr;
+  SUNLinearSolver linear_solver = nullptr;
+  void* memory = nullptr;
+
+  CvodeHandles() = default;
+  CvodeHandles(const CvodeHandles&) = delete;
+  CvodeHandles& operator=(const CvodeHandles&) = delete;
+  ~CvodeHandles() {
+    if (memory) CVodeFree(&memory);
+    if (linear_solver) SUNLinSolFree(linear_solver);
+    if (matrix) SUNMatDestroy(matrix);
+    if (dense) N_VDestroy(dense);
+    if (abstol) N_VDestroy(abstol);
+    if (y) N_VDestroy(y);
+    if (context) SUNContext_Free(&context);
+  }
+};
+
+class Peer {
+ public:
+  Peer(const Scenario& scenario, const InitialCondition& start)
+      : settings_(scenario.settings),
+        schedule_(scenario.parameters),
+        scale_(state_scale(scenario.parameters)),
+        segment_(schedule_),
+        x_(start.x),
+        modes_(start.modes) {
+    for (const Event& e : scenario.events) schedule_.add(e);
+    const ModelParameters& p = scenario.parameters;
+    const Derived d(p);
+    // The contact thresholds of core/src/simulator.cpp: a penetration of 1e-9
+    // of the travel is a hit; a release needs 1e-8 of the loop's force scale.
+    swash_penetration_ = 1e-9 * p.max_swash_angle;
+    spool_penetration_ = 1e-9 * p.spool_travel;
+    swash_release_moment_ = 1e-8 * p.control_piston_arm * d.control_area * scale_[state::discharge_pressure];
+    spool_release_force_ = 1e-8 * d.sensing_area * scale_[state::discharge_pressure];
+    segment_.begin(t_, schedule_.next_corner_after(t_));
+    pin_held_coordinates();
+  }
+
+  PeerResult run() {
+    const auto wall_start = std::chrono::steady_clock::now();
+    create_solver();
+    const double t_end = settings_.duration;
+    result_.peak_discharge_pressure = -infinity;
+    result_.trace.reserve(static_cast<std::size_t>(t_end / settings_.sample_interval) + 2);
+    emit_samples_until(t_, false);
+
+    bool restart = true;
+    double segment_end = -infinity;
+    while (t_ < t_end) {
+      const double corner = schedule_.next_corner_after(t_);
+      const double stop_at = std::min(corner, t_end);
+      if (restart || stop_at != segment_end) {
+        segment_.begin(t_, corner);
+        segment_end = stop_at;
+      }
+      if (restart) {
+        restart_at(stop_at);
+        restart = false;
+      }
+      double t_reached = t_;
+      const int flag = CVode(cv_.memory, stop_at, cv_.y, &t_reached, CV_ONE_STEP);
+      if (flag < 0) throw SolverError(t_, "CVODE: " + error_message_);
+      if (flag == CV_TSTOP_RETURN) t_reached = stop_at;
+      emit_samples_until(t_reached, true);
+      t_ = t_reached;
+      x_ = physical();
+      if (!x_.allFinite()) throw SolverError(t_, "the state became non-finite");
+      if (flag == CV_ROOT_RETURN) {
+        std::array<int, max_guards> found{};
+        CVodeGetRootInfo(cv_.memory, found.data());
+        const int first = static_cast<int>(
+            std::find_if(found.begin(), found.begin() + guard_count_, [](int f) { return f != 0; }) - found.begin());
+        // The project takes the earliest guard, the first listed on a tie;
+        // CVODE reports every guard that switched at the same root time.
+        if (first < guard_count_) {
+          apply_switch(guards_[first]);
+          pin_held_coordinates();
+          restart = true;
+        }
+      }
+      if (t_ >= stop_at && stop_at == corner) {
+        pin_held_coordinates();  // a stop position itself may have changed
+        restart = true;
+      }
+      observe(t_, x_);
+    }
+    harvest_counters();
+    result_.stats.solver.rejected_steps = result_.stats.error_test_failures + result_.stats.convergence_failures;
+    result_.stats.solver.wall_time_s =
+        std::chrono::duration<double>(std::chrono::steady_clock::now() - wall_start).count();
+    return std::move(result_);
+  }
+
+ private:
+  static constexpr int max_guards = 4;
+
+  RunSettings settings_;
+  Schedule schedule_;
+  State scale_;
+  SegmentParameters segment_;
+  double t_ = 0.0;
+  State x_;
+  StopModes modes_;
+  long long next_sample_ = 0;
+  double swash_penetration_ = 0, spool_penetration_ = 0, swash_release_moment_ = 0, spool_release_force_ = 0;
+  std::array<Guard, max_guards> guards_{};
+  int guard_count_ = 0;
+  CvodeHandles cv_;
+  bool started_ = false;
+  std::string error_message_ = "failed";
+  PeerResult result_;
+
+  // ---- CVODE callbacks (scaled states z = x / scale) ----------------------
+
+  static int rhs(realtype t, N_Vector y, N_Vector ydot, void* user) {
+    Peer& self = *static_cast<Peer*>(user);
+    ++self.result_.stats.solver.rhs_evaluations;
+    const State x = Eigen::Map<const State>(N_VGetArrayPointer(y)).cwiseProduct(self.scale_);
+    const ModelParameters& p = self.segment_.params(t);
+    const State dx = derivatives<double>(p, self.segment_.derived(t), self.modes_, x);
+    Eigen::Map<State>(N_VGetArrayPointer(ydot)) = dx.cwiseQuotient(self.scale_);
+    return 0;
+  }
+
+  static int jacobian(realtype t, N_Vector y, N_Vector /*fy*/, SUNMatrix jac, void* user, N_Vector /*tmp1*/,
+                      N_Vector /*tmp2*/, N_Vector /*tmp3*/) {
+    Peer& self = *static_cast<Peer*>(user);
+    ++self.result_.stats.solver.jacobian_evaluations;
+    const State x = Eigen::Map<const State>(N_VGetArrayPointer(y)).cwiseProduct(self.scale_);
+    const ModelParameters& p = self.segment_.params(t);
+    const Jacobian j = swashtune::jacobian(p, self.segment_.derived(t), self.modes_, x);
+    // SUNDIALS dense matrices are column-major, like Eigen's default.
+    Eigen::Map<Jacobian>(SM_DATA_D(jac)) = self.scale_.cwiseInverse().asDiagonal() * j * self.scale_.asDiagonal();
+    return 0;
+  }
+
+  static int guard_functions(realtype t, N_Vector y, realtype* gout, void* user) {
+    Peer& self = *static_cast<Peer*>(user);
+    const State x = Eigen::Map<const State>(N_VGetArrayPointer(y)).cwiseProduct(self.scale_);
+    for (int i = 0; i < self.guard_count_; ++i) gout[i] = self.guard_value(self.guards_[i], t, x);
+    return 0;
+  }
+
+  static void on_error(int code, const char* /*module*/, const char* function, char* message, void* user) {
+    if (code >= 0) return;  // warnings: CVODE recovers by itself
+    static_cast<Peer*>(user)->error_message_ = std::string(function) + ": " + message;
+  }
+
+  // ---- setup and restarts ---------------------------------------------------
+
+  void check(int flag, const char* what) {
+    if (flag < 0) throw SolverError(t_, std::string("CVODE set-up: ") + what + " failed");
+  }
+
+  void create_solver() {
+    check(SUNContext_Create(nullptr, &cv_.context), "SUNContext_Create");
+    cv_.y = N_VNew_Serial(state::size, cv_.context);
+    cv_.abstol = N_VNew_Serial(state::size, cv_.context);
+    cv_.dense = N_VNew_Serial(state::size, cv_.context);
+    cv_.matrix = SUNDenseMatrix(state::size, state::size, cv_.context);
+    if (!cv_.y || !cv_.abstol || !cv_.dense || !cv_.matrix) throw SolverError(t_, "CVODE set-up: out of memory");
+    cv_.linear_solver = SUNLinSol_Dense(cv_.y, cv_.matrix, cv_.context);
+    cv_.memory = CVodeCreate(CV_BDF, cv_.context);
+    if (!cv_.linear_solver || !cv_.memory) throw SolverError(t_, "CVODE set-up: out of memory");
+    check(CVodeSetErrHandlerFn(cv_.memory, on_error, this), "CVodeSetErrHandlerFn");
+    load_state();
+    check(CVodeInit(cv_.memory, rhs, t_, cv_.y), "CVodeInit");
+    check(CVodeSetUserData(cv_.memory, this), "CVodeSetUserData");
+    // The states are scaled to order one, so atol is the same fraction of
+    // each state's scale, as in the project's error control.
+    N_VConst(settings_.atol, cv_.abstol);
+    check(CVodeSVtolerances(cv_.memory, settings_.rtol, cv_.abstol), "CVodeSVtolerances");
+    check(CVodeSetLinearSolver(cv_.memory, cv_.linear_solver, cv_.matrix), "CVodeSetLinearSolver");
+    check(CVodeSetJacFn(cv_.memory, jacobian), "CVodeSetJacFn");
+    check(CVodeSetMaxStep(cv_.memory, settings_.max_step), "CVodeSetMaxStep");
+    check(CVodeSetMaxNumSteps(cv_.memory, 1000000), "CVodeSetMaxNumSteps");
+    check(CVodeSetNoInactiveRootWarn(cv_.memory), "CVodeSetNoInactiveRootWarn");
+  }
+
+  void load_state() { Eigen::Map<State>(N_VGetArrayPointer(cv_.y)) = x_.cwiseQuotient(scale_); }
+  State physical() const { return Eigen::Map<const State>(N_VGetArrayPointer(cv_.y)).cwiseProduct(scale_); }
+
+  // Restarts CVODE at (t_, x_) after a switch or a corner: fresh history,
+  // the guards of the present stop modes, and the next corner as stop time.
+  void restart_at(double stop_at) {
+    // A parameter step at a corner can leave a guard already past its
+    // threshold; the project's solver then switches at the step's start.
+    // Each pass settles one coordinate, so a few passes are enough.
+    for (int pass = 0; pass < max_guards; ++pass) {
+      select_guards();
+      const std::optional<Guard> g = first_guard_past_threshold();
+      if (!g) break;
+      apply_switch(*g);
+      pin_held_coordinates();
+    }
+    select_guards();
+    harvest_counters();
+    if (started_) ++result_.stats.restarts;
+    started_ = true;
+    load_state();
+    check(CVodeReInit(cv_.memory, t_, cv_.y), "CVodeReInit");
+    check(CVodeSetStopTime(cv_.memory, stop_at), "CVodeSetStopTime");
+    check(CVodeRootInit(cv_.memory, guard_count_, guard_functions), "CVodeRootInit");
+    // Only a guard falling below zero switches, as in the project's solver.
+    std::array<int, max_guards> direction;
+    direction.fill(-1);
+    check(CVodeSetRootDirection(cv_.memory, direction.data()), "CVodeSetRootDirection");
+  }
+
+  // Adds CVODE's counters of the life that ends now (CVodeReInit zeroes them).
+  void harvest_counters() {
+    long steps = 0, error_tests = 0, convergence = 0, newton = 0;
+    CVodeGetNumSteps(cv_.memory, &steps);
+    CVodeGetNumErrTestFails(cv_.memory, &error_tests);
+    CVodeGetNumNonlinSolvConvFails(cv_.memory, &convergence);
+    CVodeGetNumNonlinSolvIters(cv_.memory, &newton);
+    PeerStats& s = result_.stats;
+    s.solver.steps += steps;
+    s.error_test_failures += error_tests;
+    s.convergence_failures += convergence;
+    s.newton_iterations += newton;
+  }
+
+  // ---- the end-stop logic of core/src/simulator.cpp -------------------------
+
+  void pin_held_coordinates() {
+    const ModelParameters p = schedule_.at(t_);
+    if (modes_.swash != Stop::free) {
+      x_[state::swash_angle] = modes_.swash == Stop::lower ? 0.0 : p.max_swash_angle;
+      x_[state::swash_velocity] = 0.0;
+    }
+    if (modes_.spool != Stop::free) {
+      x_[state::spool_position] = modes_.spool == Stop::lower ? -p.spool_travel : p.spool_travel;
+      x_[state::spool_velocity] = 0.0;
+    }
+  }
+
+  void select_guards() {
+    guard_count_ = 0;
+    if (modes_.swash == Stop::free) {
+      guards_[guard_count_++] = Guard::swash_lower_hit;
+      guards_[guard_count_++] = Guard::swash_upper_hit;
+    } else {
+      guards_[guard_count_++] = Guard::swash_release;
+    }
+    if (modes_.spool == Stop::free) {
+      guards_[guard_count_++] = Guard::spool_lower_hit;
+      guards_[guard_count_++] = Guard::spool_upper_hit;
+    } else {
+      guards_[guard_count_++] = Guard::spool_release;
+    }
+  }
+
+  std::optional<Guard> first_guard_past_threshold() {
+    for (int i = 0; i < guard_count_; ++i)
+      if (guard_value(guards_[i], t_, x_) < 0.0) return guards_[i];
+    return std::nullopt;
+  }
+
+  // The switch happens when a guard falls below zero.
+  double guard_value(Guard g, double ts, const State& xs) {
+    const ModelParameters& p = segment_.params(ts);
+    const Derived& d = segment_.derived(ts);
+    switch (g) {
+      case Guard::swash_lower_hit:
+        return xs[state::swash_angle] + 0.5 * swash_penetration_;
+      case Guard::swash_upper_hit:
+        return p.max_swash_angle - xs[state::swash_angle] + 0.5 * swash_penetration_;
+      case Guard::swash_release: {
+        const double moment = swash_static_moment<double>(p, d, xs);
+        const double away = modes_.swash == Stop::lower ? moment : -moment;
+        return swash_release_moment_ - away;
+      }
+      case Guard::spool_lower_hit:
+        return xs[state::spool_position] + p.spool_travel + 0.5 * spool_penetration_;
+      case Guard::spool_upper_hit:
+        return p.spool_travel - xs[state::spool_position] + 0.5 * spool_penetration_;
+      case Guard::spool_release: {
+        const Flows f = flows<double>(p, d, xs);
+        const double force = spool_static_force<double>(p, d, f, xs);
+        const double away = modes_.spool == Stop::lower ? force : -force;
+        return spool_release_force_ + d.breakaway_friction - away;  // a sticky spool must break away
+      }
+    }
+    return 1.0;
+  }
+
+  void apply_switch(Guard g) {
+    ++result_.stats.solver.stop_events;
+    const ModelParameters& p = segment_.params(t_);
+    const Derived& d = segment_.derived(t_);
+    // Inelastic contact: on the stop with zero velocity; it stays if the
+    // force holds it against the stop.
+    auto settle_on = [&](Stop& mode, Stop stop, double position, int pos_index, int vel_index, double away_force,
+                         double threshold) {
+      x_[pos_index] = position;
+      x_[vel_index] = 0.0;
+      mode = away_force > threshold ? Stop::free : stop;
+    };
+    switch (g) {
+      case Guard::swash_lower_hit:
+      case Guard::swash_upper_hit: {
+        const bool lower = g == Guard::swash_lower_hit;
+        State xs = x_;
+        xs[state::swash_angle] = lower ? 0.0 : p.max_swash_angle;
+        const double moment = swash_static_moment<double>(p, d, xs);
+        settle_on(modes_.swash, lower ? Stop::lower : Stop::upper, xs[state::swash_angle], state::swash_angle,
+                  state::swash_velocity, lower ? moment : -moment, swash_release_moment_);
+        break;
+      }
+      case Guard::spool_lower_hit:
+      case Guard::spool_upper_hit: {
+        const bool lower = g == Guard::spool_lower_hit;
+        State xs = x_;
+        xs[state::spool_position] = lower ? -p.spool_travel : p.spool_travel;
+        const Flows f = flows<double>(p, d, xs);
+        const double force = spool_static_force<double>(p, d, f, xs);
+        settle_on(modes_.spool, lower ? Stop::lower : Stop::upper, xs[state::spool_position], state::spool_position,
+                  state::spool_velocity, lower ? force : -force, spool_release_force_ + d.breakaway_friction);
+        break;
+      }
+      case Guard::swash_release:
+        modes_.swash = Stop::free;
+        break;
+      case Guard::spool_release:
+        modes_.spool = Stop::free;
+        break;
+    }
+  }
+
+  // ---- the trace ------------------------------------------------------------
+
+  double sample_time(long long k) const { return static_cast<double>(k) * settings_.sample_interval; }
+
+  void emit_samples_until(double t_limit, bool dense) {
+    while (sample_time(next_sample_) <= t_limit * (1.0 + 1e-14) + 1e-15) {
+      const double ts = sample_time(next_sample_);
+      State xs = x_;
+      if (dense) {
+        // CVODE's interpolant over the last step; a grid time a rounding
+        // error past the step's end is taken at the end.
+        if (CVodeGetDky(cv_.memory, std::min(ts, t_limit), 0, cv_.dense) < 0)
+          throw SolverError(ts, "CVODE: no dense output at a sample time");
+        xs = Eigen::Map<const State>(N_VGetArrayPointer(cv_.dense)).cwiseProduct(scale_);
+      }
+      const Sample s = make_sample(ts, xs, schedule_.at(ts));
+      observe(ts, xs);
+      result_.trace.push_back(s);
+      ++next_sample_;
+    }
+  }
+
+  void observe(double /*t*/, const State& x) {
+    result_.peak_discharge_pressure = std::max(result_.peak_discharge_pressure, x[state::discharge_pressure]);
+  }
+};
+
+}  // namespace
+
+PeerResult run_cvode_peer(const Scenario& scenario, const InitialCondition& start) {
+  Peer peer(scenario, start);
+  return peer.run();
+}
+
+}  // namespace swashtune::bench
