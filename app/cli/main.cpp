@@ -2,10 +2,16 @@
 #include <unistd.h>
 
 #include <CLI/CLI.hpp>
+#include <cerrno>
+#include <chrono>
+#include <cstdint>
 #include <cstdio>
+#include <cstring>
 #include <filesystem>
 #include <iostream>
+#include <memory>
 #include <optional>
+#include <set>
 #include <string>
 
 #include "swashtune/analysis.hpp"
@@ -18,6 +24,7 @@
 #include "swashtune/safety.hpp"
 #include "swashtune/scenario.hpp"
 #include "swashtune/simulator.hpp"
+#include "swashtune/sweep.hpp"
 #include "swashtune/units.hpp"
 
 namespace {
@@ -27,6 +34,8 @@ using namespace swashtune;
 constexpr int exit_ok = 0;
 constexpr int exit_bad_input = 2;
 constexpr int exit_solver_failed = 3;
+// In-memory trace for the metrics of one run: beyond this it is thinned.
+constexpr std::size_t kept_trace_samples = 1u << 16;
 
 struct PressureUnit {
   const char* name;
@@ -58,17 +67,36 @@ int run_command(const std::string& scenario_path, const std::string& out_dir, co
     std::cerr << out_dir << ": cannot use as output folder" << (ec ? ": " + ec.message() : "") << "\n";
     return exit_bad_input;
   }
-  const RunResult result = run_scenario(scenario);
-  const auto metrics = event_metrics(scenario, result);
-  // Build both files fully before replacing either.
-  const std::string csv = trace_csv(result.trace, *units);
-  const std::string json = summary_json(scenario, result, metrics);
+  // The trace streams to a temporary file while it is simulated (memory stays
+  // bounded for runs of hours); both files replace earlier ones only when
+  // the run has succeeded.
   const std::filesystem::path dir(out_dir);
-  write_file_atomically((dir / "trace.csv").string(), csv);
+  StreamingFile trace_file((dir / "trace.csv").string());
+  const TraceRowFormatter rows(*units);
+  std::string pending = rows.header();
+  long long samples = 0;
+  RunOptions options;
+  options.max_trace_samples = kept_trace_samples;
+  options.stream = [&](const Sample& s) {
+    rows.append(pending, s);
+    ++samples;
+    if (pending.size() > (1u << 20)) {
+      trace_file.write(pending);
+      pending.clear();
+    }
+  };
+  const RunResult result = run_scenario(scenario, options);
+  trace_file.write(pending);
+  const auto metrics = event_metrics(scenario, result);
+  const std::string json = summary_json(scenario, result, metrics);
+  trace_file.commit();
   write_file_atomically((dir / "summary.json").string(), json);
 
   const PressureUnit pu = pressure_unit(*units);
-  std::printf("%s: %zu samples written to %s\n", scenario.name.c_str(), result.trace.size(), out_dir.c_str());
+  std::printf("%s: %lld samples written to %s\n", scenario.name.c_str(), samples, out_dir.c_str());
+  if (result.trace_stride > 1)
+    std::printf("note: metrics taken from every %lld-th sample (a long run's trace is thinned in memory)\n",
+                result.trace_stride);
   if (!result.start.converged)
     std::printf("note: no steady state found (the loop may hunt); the run starts from the state reached after %.3g s\n",
                 result.start.simulated_time);
@@ -77,7 +105,7 @@ int run_command(const std::string& scenario_path, const std::string& out_dir, co
     std::printf("  event at %.4g s on %s: peak %.1f %s, overshoot %.1f %%, settling %.1f ms, swash 90 %% in %.1f ms\n",
                 m.time, m.target.c_str(), m.peak_discharge_pressure * pu.per_pascal, pu.name, m.overshoot_percent,
                 m.settling_time * 1e3, m.swash_response_time * 1e3);
-  const Sample& last = result.trace.back();
+  const Sample& last = result.final_sample;
   std::printf("final: %.1f %s, pump flow %.2f L/min, swash %.3f deg\n",
               last.x[state::discharge_pressure] * pu.per_pascal, pu.name, last.pump_flow * 6e4,
               last.x[state::swash_angle] * 180.0 / pi);
@@ -340,6 +368,140 @@ int parameters_command(bool markdown) {
   return exit_ok;
 }
 
+// ---- sweep and merge ----------------------------------------------------------
+
+struct SweepCommand {
+  std::string scenario_path, shard, out_path;
+  std::vector<std::string> vary;
+  std::optional<std::size_t> samples;
+  std::uint64_t seed = 1;
+  int jobs = 1;
+  bool resume = false;
+};
+
+Sweep make_sweep(const SweepCommand& c) {
+  if (c.vary.empty())
+    throw SweepError("give what to vary: --vary KEY=FROM:TO:N (a grid), or --vary KEY=FROM:TO with --samples N");
+  const Scenario base = load_scenario(c.scenario_path);
+  if (c.samples) {
+    std::vector<SweepRange> ranges;
+    for (const std::string& text : c.vary) ranges.push_back(parse_sweep_range(text));
+    return Sweep::latin_hypercube(base, ranges, *c.samples, c.seed);
+  }
+  std::vector<Axis> axes;
+  for (const std::string& text : c.vary) axes.push_back(parse_sweep_axis(text));
+  return Sweep::grid(base, axes);
+}
+
+// Rows go to the file as they finish, each flushed, so that a sweep stopped
+// at any moment keeps its rows for --resume. Once every point is in, the
+// file is rewritten sorted by index (atomically), which makes a finished
+// sweep's file the same bytes however it was run.
+int sweep_command(const SweepCommand& c) {
+  try {
+    if (c.jobs < 1 || c.jobs > 256) throw SweepError("--jobs: must be from 1 to 256");
+    const Sweep sweep = make_sweep(c);
+    const Shard shard = c.shard.empty() ? Shard{} : parse_shard(c.shard);
+    std::vector<std::size_t> indices;
+    for (std::size_t i = 0; i < sweep.size(); ++i)
+      if (shard.contains(i)) indices.push_back(i);
+    check_sweep_points(sweep, indices);
+
+    std::set<std::size_t> done;
+    bool fresh = true;
+    std::error_code ec;
+    if (std::filesystem::exists(c.out_path, ec)) {
+      if (!c.resume)
+        throw SweepError(c.out_path + ": already exists; add --resume to continue that sweep, or remove the file");
+      const std::string text = read_file(c.out_path);
+      const SweepTable table = parse_sweep_table(text, c.out_path);
+      if (!table.header.empty()) {
+        check_sweep_table(table, sweep, shard, c.out_path);
+        for (const SweepTable::Line& row : table.rows) done.insert(row.index);
+        fresh = false;
+      }
+      if (table.truncated) {  // drop the row a stopped run left half written
+        const std::size_t complete = text.rfind('\n') == std::string::npos ? 0 : text.rfind('\n') + 1;
+        std::filesystem::resize_file(c.out_path, complete, ec);
+        if (ec) throw FileError(c.out_path + ": cannot cut off the partial last row: " + ec.message());
+      }
+    }
+    std::vector<std::size_t> pending;
+    for (std::size_t i : indices)
+      if (!done.count(i)) pending.push_back(i);
+
+    std::unique_ptr<std::FILE, int (*)(std::FILE*)> file(std::fopen(c.out_path.c_str(), fresh ? "wb" : "ab"),
+                                                         &std::fclose);
+    if (!file) throw FileError(c.out_path + ": cannot write: " + std::strerror(errno));
+    const auto put = [&](const std::string& text) {
+      if (std::fwrite(text.data(), 1, text.size(), file.get()) != text.size() || std::fflush(file.get()) != 0)
+        throw FileError(c.out_path + ": cannot write: " + std::strerror(errno));
+    };
+    if (fresh) put(sweep_header(sweep) + "\n");
+
+    const bool terminal = ::isatty(::fileno(stderr)) != 0;  // progress only where a person watches
+    const auto started = std::chrono::steady_clock::now();
+    std::size_t computed = 0, failed = 0;
+    run_sweep(sweep, pending, c.jobs, [&](const SweepRow& row) {
+      put(sweep_csv_line(row));
+      ++computed;
+      if (row.status != "ok") ++failed;
+      if (terminal) {
+        const double seconds = std::chrono::duration<double>(std::chrono::steady_clock::now() - started).count();
+        std::fprintf(stderr, "\rsweep: %zu/%zu points, %.1f points/s   ", done.size() + computed, indices.size(),
+                     computed / std::max(seconds, 1e-9));
+      }
+    });
+    if (terminal && computed > 0) std::fprintf(stderr, "\n");
+    const double seconds = std::chrono::duration<double>(std::chrono::steady_clock::now() - started).count();
+    if (std::fclose(file.release()) != 0) throw FileError(c.out_path + ": cannot write: " + std::strerror(errno));
+
+    const SweepTable table = parse_sweep_table(read_file(c.out_path), c.out_path);
+    write_file_atomically(c.out_path, sorted_sweep_table(table.header, table.rows, c.out_path));
+
+    std::printf("%s: %zu points", c.out_path.c_str(), indices.size());
+    if (shard.count > 1) std::printf(" (shard %zu/%zu of %zu)", shard.part, shard.count, sweep.size());
+    if (!done.empty()) std::printf(", %zu already done", done.size());
+    std::printf(", %zu computed in %.3g s (%.3g points/s on %d thread%s)\n", computed, seconds,
+                computed / std::max(seconds, 1e-9), c.jobs, c.jobs == 1 ? "" : "s");
+    if (failed > 0) std::printf("note: %zu point(s) failed; their status column says why\n", failed);
+    std::printf("%s\n", safety_notice_short);
+    return exit_ok;
+  } catch (const SweepError& e) {
+    std::cerr << "swashtune-cli sweep: " << e.what() << "\n";
+    return exit_bad_input;
+  }
+}
+
+// Joins the parts of a sharded sweep into the table the whole sweep gives.
+int merge_command(const std::string& out_path, const std::vector<std::string>& inputs) {
+  try {
+    std::string header;
+    std::vector<SweepTable::Line> rows;
+    for (const std::string& path : inputs) {
+      SweepTable table = parse_sweep_table(read_file(path), path);
+      if (table.header.empty()) throw SweepError(path + ": empty, not a sweep table");
+      if (table.truncated)
+        throw SweepError(path + ": ends in a partial row (its sweep was stopped); finish it with sweep --resume");
+      if (header.empty()) header = table.header;
+      if (table.header != header)
+        throw SweepError(path + ": its header differs from " + inputs.front() + "'s; the parts are not of one sweep");
+      rows.insert(rows.end(), table.rows.begin(), table.rows.end());
+    }
+    std::set<std::size_t> indices;
+    for (const SweepTable::Line& row : rows) indices.insert(row.index);
+    write_file_atomically(out_path, sorted_sweep_table(header, rows, "merge"));
+    std::printf("%s: %zu points from %zu files\n", out_path.c_str(), indices.size(), inputs.size());
+    if (!indices.empty() && *indices.rbegin() + 1 != indices.size())
+      std::fprintf(stderr, "note: %zu points below index %zu are missing; is a part not finished or not given?\n",
+                   *indices.rbegin() + 1 - indices.size(), *indices.rbegin());
+    return exit_ok;
+  } catch (const SweepError& e) {
+    std::cerr << "swashtune-cli merge: " << e.what() << "\n";
+    return exit_bad_input;
+  }
+}
+
 }  // namespace
 
 int main(int argc, char** argv) {
@@ -408,6 +570,33 @@ int main(int argc, char** argv) {
       app.add_subcommand("parameters", "List every parameter and setting with unit, default and range");
   parameters->add_flag("--markdown", markdown, "Print a Markdown table (resources/parameters.md)");
 
+  SweepCommand sweep_options;
+  CLI::App* sweep =
+      app.add_subcommand("sweep", "Run a scenario over a grid or Latin hypercube of parameters; one CSV row per point");
+  sweep->add_option("SCENARIO", sweep_options.scenario_path, "Base scenario file (TOML)")->required();
+  sweep
+      ->add_option("--vary", sweep_options.vary,
+                   "Parameter to vary, repeatable: KEY=FROM:TO:N on a grid (first one fastest), KEY=FROM:TO with "
+                   "--samples; values may carry units")
+      ->allow_extra_args(false);
+  sweep->add_option("--samples", sweep_options.samples,
+                    "Latin hypercube of this many points in the --vary ranges, instead of a grid");
+  sweep->add_option("--seed", sweep_options.seed, "Seed of the Latin hypercube (same seed, same points)")
+      ->capture_default_str();
+  sweep->add_option("--jobs", sweep_options.jobs, "Points computed at once, on this many threads")
+      ->capture_default_str();
+  sweep->add_option("--shard", sweep_options.shard, "Only points with index % N == K-1 (K/N, 1-based), e.g. 3/16");
+  sweep->add_flag("--resume", sweep_options.resume, "Continue the sweep in --out: keep its rows, compute the rest");
+  sweep->add_option("--out", sweep_options.out_path, "CSV table written row by row, sorted by index when done")
+      ->required();
+
+  std::string merge_out;
+  std::vector<std::string> merge_inputs;
+  CLI::App* merge =
+      app.add_subcommand("merge", "Join the CSV tables of a sweep's shards into one, sorted by point index");
+  merge->add_option("OUT", merge_out, "Merged table (written atomically)")->required();
+  merge->add_option("INPUTS", merge_inputs, "Tables written by sweep --shard")->required();
+
   try {
     app.parse(argc, argv);
   } catch (const CLI::CallForHelp& e) {
@@ -427,6 +616,8 @@ int main(int argc, char** argv) {
     if (*steady) return steady_command(scenario_path, points, json, units_name);
     if (*field) return field_command(trace_path, trace_options, window_from, window_to, json);
     if (*fit) return fit_command(scenario_path, trace_path, trace_options, free_keys, json, fitted_path);
+    if (*sweep) return sweep_command(sweep_options);
+    if (*merge) return merge_command(merge_out, merge_inputs);
   } catch (const ScenarioError& e) {
     std::cerr << e.what() << "\n";
     return exit_bad_input;

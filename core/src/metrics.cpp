@@ -85,8 +85,14 @@ std::vector<EventMetrics> event_metrics(const Scenario& scenario, const RunResul
     EventMetrics m;
     m.time = start;
     m.target = events[i].target;
-    const double initial = trace_value_at(trace, start, discharge_pressure_of);
-    const double final_value = trace_value_at(trace, end, discharge_pressure_of);
+    // Exact values at the window's ends where the run recorded them (a
+    // thinned trace would blur them), else from the trace.
+    auto at = [&](const std::vector<State>& states, double t, int index, double (*column)(const Sample&)) {
+      const double exact = i < states.size() ? states[i][index] : std::nan("");
+      return std::isfinite(exact) ? exact : trace_value_at(trace, t, column);
+    };
+    const double initial = at(result.window_start_state, start, state::discharge_pressure, discharge_pressure_of);
+    const double final_value = at(result.window_end_state, end, state::discharge_pressure, discharge_pressure_of);
     const double change = final_value - initial;
     m.peak_discharge_pressure = i < result.window_peaks.size() ? result.window_peaks[i] : initial;
     const double minimum = i < result.window_minima.size() ? result.window_minima[i] : initial;
@@ -96,8 +102,8 @@ std::vector<EventMetrics> event_metrics(const Scenario& scenario, const RunResul
       m.overshoot_percent = 100.0 * (final_value - minimum) / (-change);
     const double band = 0.02 * std::max(std::abs(final_value), std::abs(change));
     m.settling_time = settling_time(trace, start, end, final_value, band);
-    const double a0 = trace_value_at(trace, start, swash_angle_of);
-    const double a1 = trace_value_at(trace, end, swash_angle_of);
+    const double a0 = at(result.window_start_state, start, state::swash_angle, swash_angle_of);
+    const double a1 = at(result.window_end_state, end, state::swash_angle, swash_angle_of);
     m.swash_response_time = response_time(trace, start, end, a0, a1, 1e-3 * scenario.parameters.max_swash_angle);
     m.oscillation = window_oscillation(trace, start, end, window_oscillation_options(scenario.parameters, end - start));
     out.push_back(m);

@@ -72,28 +72,33 @@ std::string column_header(const TraceColumn& column, UnitSystem units) {
   return suffix.empty() ? std::string(column.quantity) : std::string(column.quantity) + "_" + suffix;
 }
 
-std::string trace_csv(const std::vector<Sample>& trace, UnitSystem units) {
+TraceRowFormatter::TraceRowFormatter(UnitSystem units) {
+  for (const TraceColumn& c : trace_columns()) factors_.push_back(convert(1.0, c.si_unit, unit_in(c, units)));
+  for (std::size_t i = 0; i < trace_columns().size(); ++i) {
+    if (i) header_ += ',';
+    header_ += column_header(trace_columns()[i], units);
+  }
+  header_ += '\n';
+}
+
+void TraceRowFormatter::append(std::string& out, const Sample& s) const {
   const auto& columns = trace_columns();
-  std::vector<double> factor;
-  for (const TraceColumn& c : columns) factor.push_back(convert(1.0, c.si_unit, unit_in(c, units)));
-  std::string out;
-  out.reserve((trace.size() + 1) * columns.size() * 16);
+  char buffer[32];
   for (std::size_t i = 0; i < columns.size(); ++i) {
     if (i) out += ',';
-    out += column_header(columns[i], units);
+    // to_chars: an order of magnitude faster than printf and locale-free.
+    const auto written =
+        std::to_chars(buffer, buffer + sizeof buffer, columns[i].read(s) * factors_[i], std::chars_format::general, 10);
+    out.append(buffer, written.ptr);
   }
   out += '\n';
-  char buffer[32];
-  for (const Sample& s : trace) {
-    for (std::size_t i = 0; i < columns.size(); ++i) {
-      if (i) out += ',';
-      // to_chars: an order of magnitude faster than printf and locale-free.
-      const auto written =
-          std::to_chars(buffer, buffer + sizeof buffer, columns[i].read(s) * factor[i], std::chars_format::general, 10);
-      out.append(buffer, written.ptr);
-    }
-    out += '\n';
-  }
+}
+
+std::string trace_csv(const std::vector<Sample>& trace, UnitSystem units) {
+  const TraceRowFormatter rows(units);
+  std::string out = rows.header();
+  out.reserve((trace.size() + 1) * trace_columns().size() * 16);
+  for (const Sample& s : trace) rows.append(out, s);
   return out;
 }
 
@@ -118,11 +123,12 @@ std::string oscillation_json(const OscillationReport& r) {
 }
 
 std::string summary_json(const Scenario& scenario, const RunResult& result, const std::vector<EventMetrics>& events) {
-  const Sample last = result.trace.empty() ? Sample{} : result.trace.back();
+  const Sample& last = result.final_sample;
   std::ostringstream o;
   o << "{\n";
   o << "  \"scenario\": " << json_string(scenario.name) << ",\n";
   o << "  \"peak_discharge_pressure_Pa\": " << json_number(result.peak_discharge_pressure) << ",\n";
+  o << "  \"trace_stride_for_metrics\": " << result.trace_stride << ",\n";
   o << "  \"final\": {\n";
   o << "    \"time_s\": " << json_number(last.time) << ",\n";
   o << "    \"discharge_pressure_Pa\": " << json_number(last.x[state::discharge_pressure]) << ",\n";

@@ -496,7 +496,7 @@ SettledStart settle_by_integration(const ModelParameters& p, const RunSettings& 
   return result;
 }
 
-RunResult run_scenario(const Scenario& scenario) {
+RunResult run_scenario(const Scenario& scenario, const RunOptions& options) {
   RunResult result;
   result.start = steady_state(scenario.parameters, scenario.settings);
   Simulator sim(scenario.parameters, scenario.settings, result.start.condition);
@@ -506,6 +506,8 @@ RunResult run_scenario(const Scenario& scenario) {
   const std::size_t windows = scenario.events.size();
   result.window_peaks.assign(windows, -infinity);
   result.window_minima.assign(windows, infinity);
+  result.window_start_state.assign(windows, State::Constant(std::numeric_limits<double>::quiet_NaN()));
+  result.window_end_state = result.window_start_state;
   auto window_end = [&](std::size_t i) { return i + 1 < windows ? scenario.events[i + 1].at : duration; };
   auto observe = [&](double t, const State& x) {
     const double pd = x[state::discharge_pressure];
@@ -514,14 +516,29 @@ RunResult run_scenario(const Scenario& scenario) {
       if (t >= scenario.events[i].at && t <= window_end(i)) {
         result.window_peaks[i] = std::max(result.window_peaks[i], pd);
         result.window_minima[i] = std::min(result.window_minima[i], pd);
+        if (t == scenario.events[i].at) result.window_start_state[i] = x;
+        if (t == window_end(i)) result.window_end_state[i] = x;
       }
   };
   sim.set_step_observer(observe);
   result.peak_discharge_pressure = -infinity;
-  result.trace.reserve(static_cast<std::size_t>(duration / scenario.settings.sample_interval) + 2);
+  const std::size_t expected = static_cast<std::size_t>(duration / scenario.settings.sample_interval) + 2;
+  const std::size_t limit = options.max_trace_samples;
+  result.trace.reserve(limit > 0 ? std::min(expected, 2 * limit) : expected);
+  long long index = 0;
   sim.advance_to(duration, [&](const Sample& s) {
     observe(s.time, s.x);
+    if (options.stream) options.stream(s);
+    result.final_sample = s;
+    if (index++ % result.trace_stride != 0) return;
     result.trace.push_back(s);
+    if (limit > 0 && result.trace.size() >= 2 * limit) {
+      // Keep every other sample: the kept ones are those on the doubled stride.
+      std::size_t kept = 0;
+      for (std::size_t i = 0; i < result.trace.size(); i += 2) result.trace[kept++] = result.trace[i];
+      result.trace.resize(kept);
+      result.trace_stride *= 2;
+    }
   });
   result.stats = sim.stats();
   return result;

@@ -31,6 +31,19 @@ const std::vector<TraceColumn>& trace_columns();
 // Header name of a column in a unit system, e.g. "discharge_pressure_bar".
 std::string column_header(const TraceColumn& column, UnitSystem units);
 
+// Formats trace rows in a unit system; shared by the whole-trace writer and
+// the streaming one (StreamingFile, atomic_file.hpp).
+class TraceRowFormatter {
+ public:
+  explicit TraceRowFormatter(UnitSystem units);
+  const std::string& header() const { return header_; }
+  void append(std::string& out, const Sample& s) const;
+
+ private:
+  std::vector<double> factors_;
+  std::string header_;
+};
+
 std::string trace_csv(const std::vector<Sample>& trace, UnitSystem units);
 
 // An oscillation report as a JSON object (peak_to_peak, noise and mean in the

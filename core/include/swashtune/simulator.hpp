@@ -128,13 +128,27 @@ struct OperatingPoint {
 // keep the trace and the peak discharge pressure seen in each event window
 // (taken over every solver step, not only the samples).
 struct RunResult {
-  std::vector<Sample> trace;
+  std::vector<Sample> trace;  // every sample, or every trace_stride-th one (see RunOptions)
+  long long trace_stride = 1;
+  Sample final_sample;  // the last sample of the run, whatever the stride
   OperatingPoint start;
   SolverStats stats;  // of the run itself, without finding the start
   double peak_discharge_pressure = 0.0;
   std::vector<double> window_peaks;   // one per event, over [at, next event or end]
   std::vector<double> window_minima;  // likewise, the lowest discharge pressure
+  // Discharge pressure and swash angle exactly at each window's start and
+  // end (solver steps end on event times), whatever the trace's stride.
+  std::vector<State> window_start_state, window_end_state;
 };
-RunResult run_scenario(const Scenario& scenario);
+// For long runs: every sample can be streamed out (to a file) while the
+// trace kept in memory is thinned to at most about max_trace_samples, by
+// doubling its stride whenever it fills, so memory stays bounded whatever
+// the duration. 0 keeps every sample.
+struct RunOptions {
+  Simulator::SampleSink stream;
+  std::size_t max_trace_samples = 0;
+};
+
+RunResult run_scenario(const Scenario& scenario, const RunOptions& options = {});
 
 }  // namespace swashtune
