@@ -14,6 +14,7 @@
 #include <optional>
 #include <string>
 
+#include "swashtune/end_stops.hpp"
 #include "swashtune/model.hpp"
 #include "swashtune/schedule.hpp"
 
@@ -79,10 +80,6 @@ class SegmentParameters {
   double params_time_ = 0.0;
 };
 
-// Which coordinate a stop guard watches and what it decides (as in
-// core/src/simulator.cpp).
-enum class Guard { swash_lower_hit, swash_upper_hit, swash_release, spool_lower_hit, spool_upper_hit, spool_release };
-
 // SUNDIALS objects, freed in reverse order of creation.
 struct CvodeHandles {
   SUNContext context = nullptr;
@@ -115,16 +112,9 @@ class Peer {
         scale_(state_scale(scenario.parameters)),
         segment_(schedule_),
         x_(start.x),
-        modes_(start.modes) {
+        modes_(start.modes),
+        thresholds_(scenario.parameters, scale_[state::discharge_pressure]) {
     for (const Event& e : scenario.events) schedule_.add(e);
-    const ModelParameters& p = scenario.parameters;
-    const Derived d(p);
-    // The contact thresholds of core/src/simulator.cpp: a penetration of 1e-9
-    // of the travel is a hit; a release needs 1e-8 of the loop's force scale.
-    swash_penetration_ = 1e-9 * p.max_swash_angle;
-    spool_penetration_ = 1e-9 * p.spool_travel;
-    swash_release_moment_ = 1e-8 * p.control_piston_arm * d.control_area * scale_[state::discharge_pressure];
-    spool_release_force_ = 1e-8 * d.sensing_area * scale_[state::discharge_pressure];
     segment_.begin(t_, schedule_.next_corner_after(t_));
     pin_held_coordinates();
   }
@@ -195,8 +185,8 @@ class Peer {
   State x_;
   StopModes modes_;
   long long next_sample_ = 0;
-  double swash_penetration_ = 0, spool_penetration_ = 0, swash_release_moment_ = 0, spool_release_force_ = 0;
-  std::array<Guard, max_guards> guards_{};
+  StopThresholds thresholds_;
+  std::array<StopGuard, max_guards> guards_{};
   int guard_count_ = 0;
   CvodeHandles cv_;
   bool started_ = false;
@@ -281,7 +271,7 @@ class Peer {
     // Each pass settles one coordinate, so a few passes are enough.
     for (int pass = 0; pass < max_guards; ++pass) {
       select_guards();
-      const std::optional<Guard> g = first_guard_past_threshold();
+      const std::optional<StopGuard> g = first_guard_past_threshold();
       if (!g) break;
       apply_switch(*g);
       pin_held_coordinates();
@@ -316,109 +306,28 @@ class Peer {
 
   // ---- the end-stop logic of core/src/simulator.cpp -------------------------
 
-  void pin_held_coordinates() {
-    const ModelParameters p = schedule_.at(t_);
-    if (modes_.swash != Stop::free) {
-      x_[state::swash_angle] = modes_.swash == Stop::lower ? 0.0 : p.max_swash_angle;
-      x_[state::swash_velocity] = 0.0;
-    }
-    if (modes_.spool != Stop::free) {
-      x_[state::spool_position] = modes_.spool == Stop::lower ? -p.spool_travel : p.spool_travel;
-      x_[state::spool_velocity] = 0.0;
-    }
-  }
+  void pin_held_coordinates() { swashtune::pin_held_coordinates(schedule_.at(t_), modes_, x_); }
 
   void select_guards() {
-    guard_count_ = 0;
-    if (modes_.swash == Stop::free) {
-      guards_[guard_count_++] = Guard::swash_lower_hit;
-      guards_[guard_count_++] = Guard::swash_upper_hit;
-    } else {
-      guards_[guard_count_++] = Guard::swash_release;
-    }
-    if (modes_.spool == Stop::free) {
-      guards_[guard_count_++] = Guard::spool_lower_hit;
-      guards_[guard_count_++] = Guard::spool_upper_hit;
-    } else {
-      guards_[guard_count_++] = Guard::spool_release;
-    }
+    const ActiveGuards active = active_stop_guards(modes_);
+    guard_count_ = active.count;
+    for (int k = 0; k < active.count; ++k) guards_[k] = active.guard[k];
   }
 
-  std::optional<Guard> first_guard_past_threshold() {
+  std::optional<StopGuard> first_guard_past_threshold() {
     for (int i = 0; i < guard_count_; ++i)
       if (guard_value(guards_[i], t_, x_) < 0.0) return guards_[i];
     return std::nullopt;
   }
 
   // The switch happens when a guard falls below zero.
-  double guard_value(Guard g, double ts, const State& xs) {
-    const ModelParameters& p = segment_.params(ts);
-    const Derived& d = segment_.derived(ts);
-    switch (g) {
-      case Guard::swash_lower_hit:
-        return xs[state::swash_angle] + 0.5 * swash_penetration_;
-      case Guard::swash_upper_hit:
-        return p.max_swash_angle - xs[state::swash_angle] + 0.5 * swash_penetration_;
-      case Guard::swash_release: {
-        const double moment = swash_static_moment<double>(p, d, xs);
-        const double away = modes_.swash == Stop::lower ? moment : -moment;
-        return swash_release_moment_ - away;
-      }
-      case Guard::spool_lower_hit:
-        return xs[state::spool_position] + p.spool_travel + 0.5 * spool_penetration_;
-      case Guard::spool_upper_hit:
-        return p.spool_travel - xs[state::spool_position] + 0.5 * spool_penetration_;
-      case Guard::spool_release: {
-        const Flows f = flows<double>(p, d, xs);
-        const double force = spool_static_force<double>(p, d, f, xs);
-        const double away = modes_.spool == Stop::lower ? force : -force;
-        return spool_release_force_ + d.breakaway_friction - away;  // a sticky spool must break away
-      }
-    }
-    return 1.0;
+  double guard_value(StopGuard g, double ts, const State& xs) {
+    return stop_guard_value(g, segment_.params(ts), segment_.derived(ts), modes_, thresholds_, xs);
   }
 
-  void apply_switch(Guard g) {
+  void apply_switch(StopGuard g) {
     ++result_.stats.solver.stop_events;
-    const ModelParameters& p = segment_.params(t_);
-    const Derived& d = segment_.derived(t_);
-    // Inelastic contact: on the stop with zero velocity; it stays if the
-    // force holds it against the stop.
-    auto settle_on = [&](Stop& mode, Stop stop, double position, int pos_index, int vel_index, double away_force,
-                         double threshold) {
-      x_[pos_index] = position;
-      x_[vel_index] = 0.0;
-      mode = away_force > threshold ? Stop::free : stop;
-    };
-    switch (g) {
-      case Guard::swash_lower_hit:
-      case Guard::swash_upper_hit: {
-        const bool lower = g == Guard::swash_lower_hit;
-        State xs = x_;
-        xs[state::swash_angle] = lower ? 0.0 : p.max_swash_angle;
-        const double moment = swash_static_moment<double>(p, d, xs);
-        settle_on(modes_.swash, lower ? Stop::lower : Stop::upper, xs[state::swash_angle], state::swash_angle,
-                  state::swash_velocity, lower ? moment : -moment, swash_release_moment_);
-        break;
-      }
-      case Guard::spool_lower_hit:
-      case Guard::spool_upper_hit: {
-        const bool lower = g == Guard::spool_lower_hit;
-        State xs = x_;
-        xs[state::spool_position] = lower ? -p.spool_travel : p.spool_travel;
-        const Flows f = flows<double>(p, d, xs);
-        const double force = spool_static_force<double>(p, d, f, xs);
-        settle_on(modes_.spool, lower ? Stop::lower : Stop::upper, xs[state::spool_position], state::spool_position,
-                  state::spool_velocity, lower ? force : -force, spool_release_force_ + d.breakaway_friction);
-        break;
-      }
-      case Guard::swash_release:
-        modes_.swash = Stop::free;
-        break;
-      case Guard::spool_release:
-        modes_.spool = Stop::free;
-        break;
-    }
+    apply_stop_switch(g, segment_.params(t_), segment_.derived(t_), thresholds_, modes_, x_);
   }
 
   // ---- the trace ------------------------------------------------------------

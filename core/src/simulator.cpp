@@ -10,6 +10,7 @@
 
 #include "rosenbrock.hpp"
 #include "swashtune/analysis.hpp"
+#include "swashtune/end_stops.hpp"
 
 namespace swashtune {
 namespace {
@@ -116,9 +117,6 @@ class ScaledDynamics {
   double params_time_ = 0.0;
 };
 
-// Which coordinate a stop guard watches and what it decides.
-enum class Guard { swash_lower_hit, swash_upper_hit, swash_release, spool_lower_hit, spool_upper_hit, spool_release };
-
 }  // namespace
 
 Sample make_sample(double t, const State& x, const ModelParameters& p) {
@@ -186,17 +184,9 @@ struct Simulator::Impl {
         t(t0),
         x(start.x),
         modes(start.modes),
-        next_sample(static_cast<long long>(std::ceil(t0 / s.sample_interval - 1e-9))) {
-    const ModelParameters& p = initial;
-    const Derived d(p);
-    // Contact thresholds: a penetration of 1e-9 of the travel counts as a
-    // hit; a release needs a force of 1e-8 of the loop's force scale, so a
-    // coordinate resting on a stop with no net force stays there.
-    swash_penetration = 1e-9 * p.max_swash_angle;
-    spool_penetration = 1e-9 * p.spool_travel;
-    swash_release_moment = 1e-8 * p.control_piston_arm * d.control_area * scale[state::discharge_pressure];
-    spool_release_force = 1e-8 * d.sensing_area * scale[state::discharge_pressure];
-    pin_held_coordinates();
+        next_sample(static_cast<long long>(std::ceil(t0 / s.sample_interval - 1e-9))),
+        thresholds(initial, scale[state::discharge_pressure]) {
+    pin_held();
   }
 
   RunSettings settings;
@@ -214,66 +204,14 @@ struct Simulator::Impl {
   bool restart = true;
   long long next_sample;
   StepObserver observer;
-  double swash_penetration, spool_penetration, swash_release_moment, spool_release_force;
+  StopThresholds thresholds;
 
   double sample_time(long long k) const { return static_cast<double>(k) * settings.sample_interval; }
 
-  void pin_held_coordinates() {
-    const ModelParameters& p = schedule.at(t);
-    if (modes.swash != Stop::free) {
-      x[state::swash_angle] = modes.swash == Stop::lower ? 0.0 : p.max_swash_angle;
-      x[state::swash_velocity] = 0.0;
-    }
-    if (modes.spool != Stop::free) {
-      x[state::spool_position] = modes.spool == Stop::lower ? -p.spool_travel : p.spool_travel;
-      x[state::spool_velocity] = 0.0;
-    }
-  }
+  void pin_held() { pin_held_coordinates(schedule.at(t), modes, x); }
 
-  // Value of a guard at state xs and time ts; the switch happens when it
-  // falls below zero.
-  double guard_value(Guard g, double ts, const State& xs) {
-    const ModelParameters& p = dynamics.params(ts);
-    const Derived& d = dynamics.derived(ts);
-    switch (g) {
-      case Guard::swash_lower_hit:
-        return xs[state::swash_angle] + 0.5 * swash_penetration;
-      case Guard::swash_upper_hit:
-        return p.max_swash_angle - xs[state::swash_angle] + 0.5 * swash_penetration;
-      case Guard::swash_release: {
-        const double moment = swash_static_moment<double>(p, d, xs);
-        const double away = modes.swash == Stop::lower ? moment : -moment;
-        return swash_release_moment - away;
-      }
-      case Guard::spool_lower_hit:
-        return xs[state::spool_position] + p.spool_travel + 0.5 * spool_penetration;
-      case Guard::spool_upper_hit:
-        return p.spool_travel - xs[state::spool_position] + 0.5 * spool_penetration;
-      case Guard::spool_release: {
-        const Flows f = flows<double>(p, d, xs);
-        const double force = spool_static_force<double>(p, d, f, xs);
-        const double away = modes.spool == Stop::lower ? force : -force;
-        return spool_release_force + d.breakaway_friction - away;  // a sticky spool must break away
-      }
-    }
-    return 1.0;
-  }
-
-  std::vector<Guard> active_guards() const {
-    std::vector<Guard> guards;
-    if (modes.swash == Stop::free) {
-      guards.push_back(Guard::swash_lower_hit);
-      guards.push_back(Guard::swash_upper_hit);
-    } else {
-      guards.push_back(Guard::swash_release);
-    }
-    if (modes.spool == Stop::free) {
-      guards.push_back(Guard::spool_lower_hit);
-      guards.push_back(Guard::spool_upper_hit);
-    } else {
-      guards.push_back(Guard::spool_release);
-    }
-    return guards;
+  double guard_value(StopGuard g, double ts, const State& xs) {
+    return stop_guard_value(g, dynamics.params(ts), dynamics.derived(ts), modes, thresholds, xs);
   }
 
   // Dense output inside the last accepted step [step_start, step_end].
@@ -283,12 +221,14 @@ struct Simulator::Impl {
 
   // Earliest guard that switches within (t0, t1]: returns the time just past
   // the switch (the right end of a tight bracket) and which guard it was.
-  std::pair<double, Guard> locate_switch(double t0, double t1, const State& x1, bool& found) {
+  std::pair<double, StopGuard> locate_switch(double t0, double t1, const State& x1, bool& found) {
     found = false;
     double best_time = t1;
-    Guard best = Guard::swash_lower_hit;
+    StopGuard best = StopGuard::swash_lower_hit;
     const State x0 = dynamics.physical(z_old);
-    for (Guard g : active_guards()) {
+    const ActiveGuards active = active_stop_guards(modes);
+    for (int k = 0; k < active.count; ++k) {
+      const StopGuard g = active.guard[k];
       if (guard_value(g, t1, x1) >= 0.0) continue;
       double lo = t0, hi = t1;
       double g_lo = guard_value(g, t0, x0), g_hi = guard_value(g, t1, x1);
@@ -324,46 +264,9 @@ struct Simulator::Impl {
     return {best_time, best};
   }
 
-  void apply_switch(Guard g) {
+  void apply_switch(StopGuard g) {
     ++stats.stop_events;
-    const ModelParameters& p = dynamics.params(t);
-    const Derived& d = dynamics.derived(t);
-    auto settle_on = [&](Stop& mode, Stop stop, double position, int pos_index, int vel_index, double away_force,
-                         double threshold) {
-      x[pos_index] = position;
-      x[vel_index] = 0.0;
-      // Inelastic contact: it stays if the force holds it against the stop.
-      mode = away_force > threshold ? Stop::free : stop;
-    };
-    switch (g) {
-      case Guard::swash_lower_hit:
-      case Guard::swash_upper_hit: {
-        const bool lower = g == Guard::swash_lower_hit;
-        State xs = x;
-        xs[state::swash_angle] = lower ? 0.0 : p.max_swash_angle;
-        const double moment = swash_static_moment<double>(p, d, xs);
-        settle_on(modes.swash, lower ? Stop::lower : Stop::upper, xs[state::swash_angle], state::swash_angle,
-                  state::swash_velocity, lower ? moment : -moment, swash_release_moment);
-        break;
-      }
-      case Guard::spool_lower_hit:
-      case Guard::spool_upper_hit: {
-        const bool lower = g == Guard::spool_lower_hit;
-        State xs = x;
-        xs[state::spool_position] = lower ? -p.spool_travel : p.spool_travel;
-        const Flows f = flows<double>(p, d, xs);
-        const double force = spool_static_force<double>(p, d, f, xs);
-        settle_on(modes.spool, lower ? Stop::lower : Stop::upper, xs[state::spool_position], state::spool_position,
-                  state::spool_velocity, lower ? force : -force, spool_release_force + d.breakaway_friction);
-        break;
-      }
-      case Guard::swash_release:
-        modes.swash = Stop::free;
-        break;
-      case Guard::spool_release:
-        modes.spool = Stop::free;
-        break;
-    }
+    apply_stop_switch(g, dynamics.params(t), dynamics.derived(t), thresholds, modes, x);
   }
 
   void emit_samples_until(double t_limit, bool dense, const SampleSink& sink) {
@@ -427,12 +330,12 @@ struct Simulator::Impl {
       x = x1;
       if (switched) {
         apply_switch(guard);
-        pin_held_coordinates();
+        pin_held();
         restart = true;
         dt = std::max(dt, 1e-9);
       }
       if (t >= stop_at && stop_at == corner) {
-        pin_held_coordinates();  // a stop position itself may have changed
+        pin_held();  // a stop position itself may have changed
         restart = true;
       }
       if (observer) observer(t, x);
