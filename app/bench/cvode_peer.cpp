@@ -17,6 +17,7 @@
 #include "swashtune/end_stops.hpp"
 #include "swashtune/model.hpp"
 #include "swashtune/schedule.hpp"
+#include "swashtune/segment_parameters.hpp"
 
 static_assert(SUNDIALS_VERSION_MAJOR == 6, "the CVODE peer is written for the SUNDIALS 6 API");
 
@@ -24,61 +25,6 @@ namespace swashtune::bench {
 namespace {
 
 constexpr double infinity = std::numeric_limits<double>::infinity();
-
-// The parameters of one segment between schedule corners, linear in time
-// inside it. Built exactly as ScaledDynamics in core/src/simulator.cpp does,
-// so that both integrators see the same parameter values at the same times.
-class SegmentParameters {
- public:
-  explicit SegmentParameters(const Schedule& schedule)
-      : schedule_(schedule), params_(schedule.initial()), derived_(params_) {}
-
-  void begin(double t0, double t1) {
-    segment_start_ = t0;
-    ramps_.clear();
-    params_ = schedule_.at(t0);
-    if (std::isfinite(t1) && t1 > t0 && schedule_.varies_between(t0, t1)) {
-      // Slopes from the start and the midpoint, both inside the segment's own
-      // linear piece (a step at t1 must not leak in).
-      const double tm = 0.5 * (t0 + t1);
-      const ModelParameters mid = schedule_.at(tm);
-      for (const ParameterSpec& spec : parameter_registry()) {
-        if (spec.is_flag()) continue;
-        const double v0 = spec.get(params_);
-        const double vm = spec.get(mid);
-        if (v0 != vm) ramps_.push_back(Ramp{&spec, v0, (vm - v0) / (tm - t0)});
-      }
-    }
-    derived_ = Derived(params_);
-    params_time_ = t0;
-  }
-
-  const ModelParameters& params(double t) {
-    if (!ramps_.empty() && t != params_time_) {
-      for (const Ramp& r : ramps_) r.spec->set(params_, r.start + r.slope * (t - segment_start_));
-      derived_ = Derived(params_);
-      params_time_ = t;
-    }
-    return params_;
-  }
-  const Derived& derived(double t) {
-    params(t);
-    return derived_;
-  }
-
- private:
-  struct Ramp {
-    const ParameterSpec* spec;
-    double start;
-    double slope;
-  };
-  const Schedule& schedule_;
-  double segment_start_ = 0.0;
-  std::vector<Ramp> ramps_;
-  ModelParameters params_;
-  Derived derived_;
-  double params_time_ = 0.0;
-};
 
 // SUNDIALS objects, freed in reverse order of creation.
 struct CvodeHandles {

@@ -11,6 +11,7 @@
 #include "rosenbrock.hpp"
 #include "swashtune/analysis.hpp"
 #include "swashtune/end_stops.hpp"
+#include "swashtune/segment_parameters.hpp"
 
 namespace swashtune {
 namespace {
@@ -32,44 +33,17 @@ std::string format_time(double t) {
 class ScaledDynamics {
  public:
   ScaledDynamics(const Schedule& schedule, const State& scale, SolverStats& stats)
-      : schedule_(schedule), scale_(scale), stats_(stats), params_(schedule.initial()), derived_(params_) {}
+      : segment_(schedule), scale_(scale), stats_(stats) {}
 
   void begin_segment(double t0, double t1, const StopModes& modes) {
     modes_ = modes;
-    segment_start_ = t0;
-    ramps_.clear();
-    params_ = schedule_.at(t0);
-    if (std::isfinite(t1) && t1 > t0 && schedule_.varies_between(t0, t1)) {
-      // Slopes from the start and the midpoint, both strictly inside the
-      // segment's own linear piece (a step at t1 must not leak in).
-      const double tm = 0.5 * (t0 + t1);
-      const ModelParameters mid = schedule_.at(tm);
-      for (const ParameterSpec& spec : parameter_registry()) {
-        if (spec.is_flag()) continue;
-        const double v0 = spec.get(params_);
-        const double vm = spec.get(mid);
-        if (v0 != vm) ramps_.push_back(Ramp{&spec, v0, (vm - v0) / (tm - t0)});
-      }
-    }
-    derived_ = Derived(params_);
-    params_time_ = t0;
+    segment_.begin(t0, t1);
   }
 
   const StopModes& modes() const { return modes_; }
-  bool ramping() const { return !ramps_.empty(); }
-
-  const ModelParameters& params(double t) {
-    if (!ramps_.empty() && t != params_time_) {
-      for (const Ramp& r : ramps_) r.spec->set(params_, r.start + r.slope * (t - segment_start_));
-      derived_ = Derived(params_);
-      params_time_ = t;
-    }
-    return params_;
-  }
-  const Derived& derived(double t) {
-    params(t);
-    return derived_;
-  }
+  bool ramping() const { return segment_.ramping(); }
+  const ModelParameters& params(double t) { return segment_.params(t); }
+  const Derived& derived(double t) { return segment_.derived(t); }
 
   State physical(const State& z) const { return z.cwiseProduct(scale_); }
   State scaled(const State& x) const { return x.cwiseQuotient(scale_); }
@@ -77,7 +51,7 @@ class ScaledDynamics {
   State rates(double t, const State& x) {
     ++stats_.rhs_evaluations;
     const ModelParameters& p = params(t);
-    return derivatives<double>(p, derived_, modes_, x);
+    return derivatives<double>(p, segment_.derived(t), modes_, x);
   }
 
   // The stepper's view: rates and Jacobian in scaled states.
@@ -87,8 +61,9 @@ class ScaledDynamics {
     ++stats_.jacobian_evaluations;
     const State x = physical(z);
     const ModelParameters& p = params(t);
-    jac = scale_.cwiseInverse().asDiagonal() * swashtune::jacobian(p, derived_, modes_, x) * scale_.asDiagonal();
-    if (ramps_.empty()) {
+    jac = scale_.cwiseInverse().asDiagonal() * swashtune::jacobian(p, segment_.derived(t), modes_, x) *
+          scale_.asDiagonal();
+    if (!segment_.ramping()) {
       dfdt.setZero();
       return;
     }
@@ -101,20 +76,10 @@ class ScaledDynamics {
   }
 
  private:
-  struct Ramp {
-    const ParameterSpec* spec;
-    double start;
-    double slope;
-  };
-  const Schedule& schedule_;
+  SegmentParameters segment_;
   State scale_;
   SolverStats& stats_;
   StopModes modes_;
-  double segment_start_ = 0.0;
-  std::vector<Ramp> ramps_;
-  ModelParameters params_;
-  Derived derived_;
-  double params_time_ = 0.0;
 };
 
 }  // namespace
