@@ -197,7 +197,7 @@ SweepRow run_sweep_point(const Sweep& sweep, std::size_t index) {
     const std::vector<EventMetrics> events = event_metrics(scenario, run);
     const StabilityReport stability = analyse_stability(scenario.parameters, scenario.settings);
     row.peak_discharge_pressure = run.peak_discharge_pressure;
-    if (!run.trace.empty()) row.final_discharge_pressure = discharge_pressure_of(run.trace.back());
+    row.final_discharge_pressure = discharge_pressure_of(run.final_sample);  // right even for a thinned trace
     if (!events.empty()) {
       const EventMetrics& first = events.front();
       row.overshoot_percent = first.overshoot_percent;
