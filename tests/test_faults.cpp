@@ -63,7 +63,7 @@ TEST(Faults, EntrainedAirSoftensTheLineByTheAirLaw) {
   p.fault_entrained_air = 0.02;
   p.opening = 0.0;
   p.leakage_coefficient = 0.0;
-  State x = State::Zero();
+  State x = zero_state(layout_of(p));
   x[state::discharge_pressure] = 20e5;
   x[state::swash_angle] = p.max_swash_angle;
   x[state::spool_position] = -p.spool_travel;

@@ -123,7 +123,7 @@ MainWindow::MainWindow(Options options, QWidget* parent)
     for (std::size_t i = 0; i < r.time.size(); ++i) {
       Sample& s = samples[i];
       s.time = r.time[i];
-      s.x.setConstant(none);
+      s.x = Eigen::VectorXd::Constant(state::core_size, none);
       s.x[state::discharge_pressure] = r.pressure[i];
       s.pump_flow = none;
       s.load_flow = r.flow.empty() ? none : r.flow[i];

@@ -81,6 +81,7 @@ class Peer {
       if (restart || stop_at != segment_end) {
         segment_.begin(t_, corner);
         segment_end = stop_at;
+        pin_held_coordinates();  // held coordinates take up the new stretch's stop motion
       }
       if (restart) {
         restart_at(stop_at);
@@ -144,10 +145,11 @@ class Peer {
   static int rhs(realtype t, N_Vector y, N_Vector ydot, void* user) {
     Peer& self = *static_cast<Peer*>(user);
     ++self.result_.stats.solver.rhs_evaluations;
-    const State x = Eigen::Map<const State>(N_VGetArrayPointer(y)).cwiseProduct(self.scale_);
+    const State x = Eigen::Map<const Eigen::VectorXd>(N_VGetArrayPointer(y), self.size()).cwiseProduct(self.scale_);
     const ModelParameters& p = self.segment_.params(t);
-    const State dx = derivatives<double>(p, self.segment_.derived(t), self.modes_, x);
-    Eigen::Map<State>(N_VGetArrayPointer(ydot)) = dx.cwiseQuotient(self.scale_);
+    State dx = derivatives<double>(p, self.segment_.derived(t), self.modes_, x);
+    add_stop_motion(self.modes_, self.stop_motion(), dx);
+    Eigen::Map<Eigen::VectorXd>(N_VGetArrayPointer(ydot), self.size()) = dx.cwiseQuotient(self.scale_);
     return 0;
   }
 
@@ -155,17 +157,18 @@ class Peer {
                       N_Vector /*tmp2*/, N_Vector /*tmp3*/) {
     Peer& self = *static_cast<Peer*>(user);
     ++self.result_.stats.solver.jacobian_evaluations;
-    const State x = Eigen::Map<const State>(N_VGetArrayPointer(y)).cwiseProduct(self.scale_);
+    const State x = Eigen::Map<const Eigen::VectorXd>(N_VGetArrayPointer(y), self.size()).cwiseProduct(self.scale_);
     const ModelParameters& p = self.segment_.params(t);
     const Jacobian j = swashtune::jacobian(p, self.segment_.derived(t), self.modes_, x);
     // SUNDIALS dense matrices are column-major, like Eigen's default.
-    Eigen::Map<Jacobian>(SM_DATA_D(jac)) = self.scale_.cwiseInverse().asDiagonal() * j * self.scale_.asDiagonal();
+    Eigen::Map<Eigen::MatrixXd>(SM_DATA_D(jac), self.size(), self.size()) =
+        self.scale_.cwiseInverse().asDiagonal() * j * self.scale_.asDiagonal();
     return 0;
   }
 
   static int guard_functions(realtype t, N_Vector y, realtype* gout, void* user) {
     Peer& self = *static_cast<Peer*>(user);
-    const State x = Eigen::Map<const State>(N_VGetArrayPointer(y)).cwiseProduct(self.scale_);
+    const State x = Eigen::Map<const Eigen::VectorXd>(N_VGetArrayPointer(y), self.size()).cwiseProduct(self.scale_);
     for (int i = 0; i < self.guard_count_; ++i) gout[i] = self.guard_value(self.guards_[i], t, x);
     return 0;
   }
@@ -183,10 +186,10 @@ class Peer {
 
   void create_solver() {
     check(SUNContext_Create(nullptr, &cv_.context), "SUNContext_Create");
-    cv_.y = N_VNew_Serial(state::size, cv_.context);
-    cv_.abstol = N_VNew_Serial(state::size, cv_.context);
-    cv_.dense = N_VNew_Serial(state::size, cv_.context);
-    cv_.matrix = SUNDenseMatrix(state::size, state::size, cv_.context);
+    cv_.y = N_VNew_Serial(size(), cv_.context);
+    cv_.abstol = N_VNew_Serial(size(), cv_.context);
+    cv_.dense = N_VNew_Serial(size(), cv_.context);
+    cv_.matrix = SUNDenseMatrix(size(), size(), cv_.context);
     if (!cv_.y || !cv_.abstol || !cv_.dense || !cv_.matrix) throw SolverError(t_, "CVODE set-up: out of memory");
     cv_.linear_solver = SUNLinSol_Dense(cv_.y, cv_.matrix, cv_.context);
     cv_.memory = CVodeCreate(CV_BDF, cv_.context);
@@ -206,8 +209,15 @@ class Peer {
     check(CVodeSetNoInactiveRootWarn(cv_.memory), "CVodeSetNoInactiveRootWarn");
   }
 
-  void load_state() { Eigen::Map<State>(N_VGetArrayPointer(cv_.y)) = x_.cwiseQuotient(scale_); }
-  State physical() const { return Eigen::Map<const State>(N_VGetArrayPointer(cv_.y)).cwiseProduct(scale_); }
+  void load_state() { Eigen::Map<Eigen::VectorXd>(N_VGetArrayPointer(cv_.y), size()) = x_.cwiseQuotient(scale_); }
+  State physical() const {
+    return Eigen::Map<const Eigen::VectorXd>(N_VGetArrayPointer(cv_.y), size()).cwiseProduct(scale_);
+  }
+  int size() const { return static_cast<int>(scale_.size()); }
+  StopMotion stop_motion() const {
+    return StopMotion{segment_.slope(&ModelParameters::max_swash_angle),
+                      segment_.slope(&ModelParameters::spool_travel)};
+  }
 
   // Restarts CVODE at (t_, x_) after a switch or a corner: fresh history,
   // the guards of the present stop modes, and the next corner as stop time.
@@ -252,7 +262,10 @@ class Peer {
 
   // ---- the end-stop logic of core/src/simulator.cpp -------------------------
 
-  void pin_held_coordinates() { swashtune::pin_held_coordinates(schedule_.at(t_), modes_, x_); }
+  void pin_held_coordinates() {
+    const ModelParameters p = schedule_.at(t_);
+    pin_to_stops(p, Derived(p), thresholds_, stop_motion(), modes_, x_);
+  }
 
   void select_guards() {
     const ActiveGuards active = active_stop_guards(modes_);
@@ -289,7 +302,7 @@ class Peer {
         // error past the step's end is taken at the end.
         if (CVodeGetDky(cv_.memory, std::min(ts, t_limit), 0, cv_.dense) < 0)
           throw SolverError(ts, "CVODE: no dense output at a sample time");
-        xs = Eigen::Map<const State>(N_VGetArrayPointer(cv_.dense)).cwiseProduct(scale_);
+        xs = Eigen::Map<const Eigen::VectorXd>(N_VGetArrayPointer(cv_.dense), size()).cwiseProduct(scale_);
       }
       const Sample s = make_sample(ts, xs, schedule_.at(ts));
       observe(ts, xs);

@@ -15,78 +15,109 @@ namespace {
 constexpr double two_pi = 2.0 * pi;
 constexpr double response_time = 0.01;  // s, the time scale of the scaled residual
 
-// Unknowns of the steady problem: the velocities are zero at rest.
-constexpr std::array<int, 4> steady_unknowns = {state::discharge_pressure, state::control_pressure, state::swash_angle,
-                                                state::spool_position};
-// Equations: line and chamber continuity, swash and spool force balance.
-constexpr std::array<int, 4> steady_equations = {state::discharge_pressure, state::control_pressure,
-                                                 state::swash_velocity, state::spool_velocity};
+using Vector = Eigen::Matrix<double, Eigen::Dynamic, 1, 0, max_states, 1>;
+using Matrix = Eigen::Matrix<double, Eigen::Dynamic, Eigen::Dynamic, 0, max_states, max_states>;
 
 double stop_position(Stop s, double travel_low, double travel_high) {
   return s == Stop::lower ? travel_low : travel_high;
 }
 
-// Newton on the four steady unknowns for one combination of stop contacts.
+// The steady problem over the layout's states: the velocities are zero at
+// rest, so the unknowns are every other state (pressures, positions, air)
+// and the equations are their rates, with the velocity rows (the force
+// balances) standing for the positions.
+struct SteadyIndices {
+  std::vector<int> unknowns, equations;
+  int swash = -1, spool = -1;  // where the swash angle and spool position sit among the unknowns
+
+  explicit SteadyIndices(const Layout& layout) {
+    for (int i = 0; i < layout.size; ++i) {
+      if (i == state::swash_velocity || i == state::spool_velocity || i == layout.shaft_angle) continue;
+      if (i == state::swash_angle) swash = static_cast<int>(unknowns.size());
+      if (i == state::spool_position) spool = static_cast<int>(unknowns.size());
+      unknowns.push_back(i);
+      equations.push_back(i == state::swash_angle      ? state::swash_velocity
+                          : i == state::spool_position ? state::spool_velocity
+                                                       : i);
+    }
+  }
+  int size() const { return static_cast<int>(unknowns.size()); }
+};
+
+// Newton on the steady unknowns for one combination of stop contacts.
 class SteadyProblem {
  public:
   SteadyProblem(const ModelParameters& p, const StopModes& modes)
-      : p_(p), d_(p), modes_(modes), x_scale_(state_scale(p)) {
-    // Residual scales: pressure rates over the response time, accelerations
-    // over its square; a held coordinate's row measures its distance to the stop.
-    r_scale_ << x_scale_[0] / response_time, x_scale_[1] / response_time,
-        p.max_swash_angle / (response_time * response_time), p.spool_travel / (response_time * response_time);
+      : p_(p), d_(p), modes_(modes), x_scale_(state_scale(p)), ix_(d_.layout) {
+    // Residual scales: rates over the response time, accelerations over its
+    // square; a held coordinate's row measures its distance to the stop.
+    r_scale_.resize(ix_.size());
+    for (int k = 0; k < ix_.size(); ++k) {
+      const int u = ix_.unknowns[k];
+      r_scale_[k] = (k == ix_.swash || k == ix_.spool) ? x_scale_[u] / (response_time * response_time)
+                                                       : x_scale_[u] / response_time;
+    }
   }
 
-  State state_of(const Eigen::Vector4d& y) const {
-    State x = State::Zero();
-    for (int i = 0; i < 4; ++i) x[steady_unknowns[i]] = y[i];
+  int size() const { return ix_.size(); }
+
+  State state_of(const Vector& y) const {
+    State x = zero_state(d_.layout);
+    for (int k = 0; k < ix_.size(); ++k) x[ix_.unknowns[k]] = y[k];
     return x;
   }
 
-  Eigen::Vector4d residual(const Eigen::Vector4d& y) const {
+  Vector unknowns_of(const State& x) const {
+    Vector y(ix_.size());
+    for (int k = 0; k < ix_.size(); ++k) y[k] = x[ix_.unknowns[k]];
+    return y;
+  }
+
+  Vector residual(const Vector& y) const {
     const State x = state_of(y);
     const State f = derivatives<double>(p_, d_, modes_, x);
-    Eigen::Vector4d r;
-    for (int i = 0; i < 4; ++i) r[i] = f[steady_equations[i]] / r_scale_[i];
+    Vector r(ix_.size());
+    for (int k = 0; k < ix_.size(); ++k) r[k] = f[ix_.equations[k]] / r_scale_[k];
     if (modes_.swash != Stop::free)
-      r[2] = (y[2] - stop_position(modes_.swash, 0.0, p_.max_swash_angle)) / p_.max_swash_angle;
+      r[ix_.swash] = (y[ix_.swash] - stop_position(modes_.swash, 0.0, p_.max_swash_angle)) / p_.max_swash_angle;
     if (modes_.spool != Stop::free)
-      r[3] = (y[3] - stop_position(modes_.spool, -p_.spool_travel, p_.spool_travel)) / p_.spool_travel;
+      r[ix_.spool] = (y[ix_.spool] - stop_position(modes_.spool, -p_.spool_travel, p_.spool_travel)) / p_.spool_travel;
     return r;
   }
 
-  Eigen::Matrix4d jacobian_of(const Eigen::Vector4d& y) const {
+  Matrix jacobian_of(const Vector& y) const {
     const Jacobian j = jacobian(p_, d_, modes_, state_of(y));
-    Eigen::Matrix4d out;
-    for (int r = 0; r < 4; ++r)
-      for (int c = 0; c < 4; ++c) out(r, c) = j(steady_equations[r], steady_unknowns[c]) / r_scale_[r];
+    const int n = ix_.size();
+    Matrix out(n, n);
+    for (int r = 0; r < n; ++r)
+      for (int c = 0; c < n; ++c) out(r, c) = j(ix_.equations[r], ix_.unknowns[c]) / r_scale_[r];
     if (modes_.swash != Stop::free) {
-      out.row(2).setZero();
-      out(2, 2) = 1.0 / p_.max_swash_angle;
+      out.row(ix_.swash).setZero();
+      out(ix_.swash, ix_.swash) = 1.0 / p_.max_swash_angle;
     }
     if (modes_.spool != Stop::free) {
-      out.row(3).setZero();
-      out(3, 3) = 1.0 / p_.spool_travel;
+      out.row(ix_.spool).setZero();
+      out(ix_.spool, ix_.spool) = 1.0 / p_.spool_travel;
     }
     return out;
   }
 
   // Damped Newton; returns true when the scaled residual falls below tol.
-  bool solve(Eigen::Vector4d& y, int& iterations, double& final_norm) const {
+  bool solve(Vector& y, int& iterations, double& final_norm) const {
     constexpr double tolerance = 1e-10;
-    Eigen::Vector4d r = residual(y);
+    Vector r = residual(y);
     double norm = r.lpNorm<Eigen::Infinity>();
     for (int it = 0; it < 60 && norm > tolerance; ++it) {
       ++iterations;
-      const Eigen::Vector4d step = jacobian_of(y).fullPivLu().solve(-r);
+      const Vector step = jacobian_of(y).fullPivLu().solve(-r);
       if (!step.allFinite()) break;
       // Keep the angle where tan() is tame and the search inside sane bounds.
       double lambda = 1.0;
       bool improved = false;
       for (int k = 0; k < 30; ++k, lambda *= 0.5) {
-        Eigen::Vector4d trial = y + lambda * step;
-        if (std::abs(trial[2]) > 2.0 * p_.max_swash_angle) continue;
-        const Eigen::Vector4d rt = residual(trial);
+        Vector trial = y + lambda * step;
+        if (std::abs(trial[ix_.swash]) > 2.0 * p_.max_swash_angle) continue;
+        const Vector rt = residual(trial);
         const double nt = rt.lpNorm<Eigen::Infinity>();
         if (std::isfinite(nt) && nt < (1.0 - 1e-4 * lambda) * norm) {
           y = trial;
@@ -103,15 +134,16 @@ class SteadyProblem {
   }
 
   // A solution only counts if it can really be rested in.
-  bool consistent(const Eigen::Vector4d& y) const {
+  bool consistent(const Vector& y) const {
     const State x = state_of(y);
     const double angle_slack = 1e-9 * p_.max_swash_angle, spool_slack = 1e-9 * p_.spool_travel;
-    if (modes_.swash == Stop::free && (y[2] < -angle_slack || y[2] > p_.max_swash_angle + angle_slack)) return false;
-    if (modes_.spool == Stop::free && std::abs(y[3]) > p_.spool_travel + spool_slack) return false;
+    const double a = y[ix_.swash], x_s = y[ix_.spool];
+    if (modes_.swash == Stop::free && (a < -angle_slack || a > p_.max_swash_angle + angle_slack)) return false;
+    if (modes_.spool == Stop::free && std::abs(x_s) > p_.spool_travel + spool_slack) return false;
     if (modes_.swash != Stop::free) {
       const double moment = swash_static_moment<double>(p_, d_, x);
       const double away = modes_.swash == Stop::lower ? moment : -moment;
-      if (away > 1e-8 * p_.control_piston_arm * d_.control_area * x_scale_[0]) return false;
+      if (away > 1e-8 * p_.control_piston_arm * d_.control_area * x_scale_[0] + d_.swash_friction) return false;
     }
     if (modes_.spool != Stop::free) {
       const Flows f = flows<double>(p_, d_, x);
@@ -122,33 +154,40 @@ class SteadyProblem {
     return x.allFinite();
   }
 
+  // The generic starting point for this contact combination.
+  Vector guess(const InitialCondition* seed) const {
+    Vector y;
+    if (seed && seed->x.size() >= d_.layout.size) {
+      y = unknowns_of(seed->x.head(d_.layout.size));
+    } else {
+      const InitialCondition full = full_stroke_guess(p_);
+      // Control pressure that balances the bias spring at a small angle.
+      const double small_angle = 0.02 * p_.max_swash_angle;
+      const double bias_moment = p_.bias_arm * (d_.bias_force_at_full_stroke +
+                                                d_.bias_rate * p_.bias_arm * (p_.max_swash_angle - small_angle));
+      const bool full_stroke = modes_.swash == Stop::upper;
+      State x = full.x;
+      x[state::discharge_pressure] = full_stroke ? full.x[state::discharge_pressure] : d_.setting;
+      x[state::control_pressure] =
+          full_stroke ? p_.tank_pressure : bias_moment / (p_.control_piston_arm * d_.control_area);
+      if (d_.layout.port_pressure >= 0) x[d_.layout.port_pressure] = x[state::control_pressure];
+      x[state::swash_angle] = small_angle;
+      x[state::spool_position] = 0.0;
+      y = unknowns_of(x);
+    }
+    if (modes_.swash != Stop::free) y[ix_.swash] = stop_position(modes_.swash, 0.0, p_.max_swash_angle);
+    if (modes_.spool != Stop::free) y[ix_.spool] = stop_position(modes_.spool, -p_.spool_travel, p_.spool_travel);
+    return y;
+  }
+
  private:
   const ModelParameters& p_;
   Derived d_;
   StopModes modes_;
   State x_scale_;
-  Eigen::Vector4d r_scale_;
+  SteadyIndices ix_;
+  Vector r_scale_;
 };
-
-Eigen::Vector4d guess_for(const ModelParameters& p, const StopModes& modes, const InitialCondition* seed) {
-  Eigen::Vector4d y;
-  if (seed) {
-    for (int i = 0; i < 4; ++i) y[i] = seed->x[steady_unknowns[i]];
-  } else {
-    const InitialCondition full = full_stroke_guess(p);
-    const Derived d(p);
-    // Control pressure that balances the bias spring at a small angle.
-    const double small_angle = 0.02 * p.max_swash_angle;
-    const double bias_moment =
-        p.bias_arm * (d.bias_force_at_full_stroke + d.bias_rate * p.bias_arm * (p.max_swash_angle - small_angle));
-    const bool full_stroke = modes.swash == Stop::upper;
-    y << (full_stroke ? full.x[state::discharge_pressure] : d.setting),
-        (full_stroke ? p.tank_pressure : bias_moment / (p.control_piston_arm * d.control_area)), small_angle, 0.0;
-  }
-  if (modes.swash != Stop::free) y[2] = stop_position(modes.swash, 0.0, p.max_swash_angle);
-  if (modes.spool != Stop::free) y[3] = stop_position(modes.spool, -p.spool_travel, p.spool_travel);
-  return y;
-}
 
 // Stop combinations, most plausible first.
 std::vector<StopModes> contact_order(const ModelParameters& p, const InitialCondition* seed) {
@@ -168,6 +207,23 @@ std::vector<StopModes> contact_order(const ModelParameters& p, const InitialCond
   return unique;
 }
 
+// The steady operating point of a pump with flow ripple is that of its mean
+// flow: solve without the ripple and give the shaft angle 0.
+ModelParameters mean_flow_model(const ModelParameters& p) {
+  ModelParameters q = p;
+  q.flow_ripple = false;
+  return q;
+}
+
+State with_shaft_angle(const State& mean, const ModelParameters& p) {
+  const Layout layout = layout_of(p);
+  if (layout.shaft_angle < 0) return mean;
+  State x = zero_state(layout);
+  x.head(mean.size()) = mean;  // the shaft angle is the layout's last state
+  x[layout.shaft_angle] = 0.0;
+  return x;
+}
+
 }  // namespace
 
 const char* to_string(SteadyMethod m) { return m == SteadyMethod::newton ? "newton" : "integration"; }
@@ -180,13 +236,18 @@ const char* stop_name(Stop s, bool swash) {
 
 OperatingPoint steady_state(const ModelParameters& p, const RunSettings& settings,
                             const std::optional<InitialCondition>& guess) {
+  if (p.flow_ripple) {
+    OperatingPoint op = steady_state(mean_flow_model(p), settings, guess);
+    op.condition.x = with_shaft_angle(op.condition.x, p);
+    return op;
+  }
   OperatingPoint op;
   const InitialCondition* seed = guess ? &*guess : nullptr;
   for (const StopModes& modes : contact_order(p, seed)) {
     const SteadyProblem problem(p, modes);
     // Try the seed and the generic guess for this contact combination.
     for (const InitialCondition* start : {seed, static_cast<const InitialCondition*>(nullptr)}) {
-      Eigen::Vector4d y = guess_for(p, modes, start);
+      Vector y = problem.guess(start);
       double norm = 0.0;
       if (problem.solve(y, op.iterations, norm) && problem.consistent(y)) {
         op.condition.x = problem.state_of(y);
@@ -211,6 +272,10 @@ OperatingPoint steady_state(const ModelParameters& p, const RunSettings& setting
 
 LinearModel linearise(const ModelParameters& p, const InitialCondition& at) {
   LinearModel m;
+  // A pump with flow ripple is linearised about its mean flow.
+  const ModelParameters q = mean_flow_model(p);
+  const Derived d(q);
+  const State x = at.x.head(d.layout.size);
   m.states = {state::discharge_pressure, state::control_pressure};
   if (at.modes.swash == Stop::free) {
     m.states.push_back(state::swash_angle);
@@ -220,10 +285,10 @@ LinearModel linearise(const ModelParameters& p, const InitialCondition& at) {
     m.states.push_back(state::spool_position);
     m.states.push_back(state::spool_velocity);
   }
+  for (int i = state::core_size; i < d.layout.size; ++i) m.states.push_back(i);
   const int n = static_cast<int>(m.states.size());
-  const Derived d(p);
-  const Jacobian j = jacobian(p, d, at.modes, at.x);
-  const State scale = state_scale(p);
+  const Jacobian j = jacobian(q, d, at.modes, x);
+  const State scale = state_scale(q);
   m.a.resize(n, n);
   m.b = Eigen::VectorXd::Zero(n);
   m.c = Eigen::RowVectorXd::Zero(n);

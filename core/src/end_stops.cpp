@@ -6,7 +6,7 @@ StopThresholds::StopThresholds(const ModelParameters& p, double pressure_scale) 
   const Derived d(p);
   swash_penetration = 1e-9 * p.max_swash_angle;
   spool_penetration = 1e-9 * p.spool_travel;
-  swash_release_moment = 1e-8 * p.control_piston_arm * d.control_area * pressure_scale;
+  swash_release_moment = 1e-8 * p.control_piston_arm * d.control_area * pressure_scale + d.swash_friction;
   spool_release_force = 1e-8 * d.sensing_area * pressure_scale;
 }
 
@@ -92,15 +92,36 @@ void apply_stop_switch(StopGuard guard, const ModelParameters& p, const Derived&
   }
 }
 
-void pin_held_coordinates(const ModelParameters& p, const StopModes& modes, State& x) {
+void pin_to_stops(const ModelParameters& p, const Derived& d, const StopThresholds& thresholds,
+                  const StopMotion& motion, StopModes& modes, State& x) {
+  if (modes.swash == Stop::free) {
+    if (x[state::swash_angle] < -thresholds.swash_penetration)
+      apply_stop_switch(StopGuard::swash_lower_hit, p, d, thresholds, modes, x);
+    else if (x[state::swash_angle] > p.max_swash_angle + thresholds.swash_penetration)
+      apply_stop_switch(StopGuard::swash_upper_hit, p, d, thresholds, modes, x);
+  }
+  if (modes.spool == Stop::free) {
+    if (x[state::spool_position] < -p.spool_travel - thresholds.spool_penetration)
+      apply_stop_switch(StopGuard::spool_lower_hit, p, d, thresholds, modes, x);
+    else if (x[state::spool_position] > p.spool_travel + thresholds.spool_penetration)
+      apply_stop_switch(StopGuard::spool_upper_hit, p, d, thresholds, modes, x);
+  }
   if (modes.swash != Stop::free) {
-    x[state::swash_angle] = modes.swash == Stop::lower ? 0.0 : p.max_swash_angle;
-    x[state::swash_velocity] = 0.0;
+    const bool upper = modes.swash == Stop::upper;
+    x[state::swash_angle] = upper ? p.max_swash_angle : 0.0;
+    x[state::swash_velocity] = upper ? motion.full_stroke_rate : 0.0;
   }
   if (modes.spool != Stop::free) {
-    x[state::spool_position] = modes.spool == Stop::lower ? -p.spool_travel : p.spool_travel;
-    x[state::spool_velocity] = 0.0;
+    const double side = modes.spool == Stop::lower ? -1.0 : 1.0;
+    x[state::spool_position] = side * p.spool_travel;
+    x[state::spool_velocity] = side * motion.spool_travel_rate;
   }
+}
+
+void add_stop_motion(const StopModes& modes, const StopMotion& motion, State& dx) {
+  if (modes.swash == Stop::upper) dx[state::swash_angle] = motion.full_stroke_rate;
+  if (modes.spool != Stop::free)
+    dx[state::spool_position] = (modes.spool == Stop::lower ? -1.0 : 1.0) * motion.spool_travel_rate;
 }
 
 }  // namespace swashtune

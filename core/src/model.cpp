@@ -4,14 +4,109 @@
 
 namespace swashtune {
 
-Jacobian jacobian(const ModelParameters& p, const Derived& d, const StopModes& modes, const State& x) {
-  using Dual = Eigen::AutoDiffScalar<State>;
-  StateOf<Dual> xd;
-  for (int i = 0; i < state::size; ++i) xd[i] = Dual(x[i], state::size, i);
+Layout layout_of(const ModelParameters& p) {
+  Layout layout;
+  const ControlOrificeElement orifice(p);
+  orifice.add_states(layout);
+  if (p.cavitation) {
+    layout.line_air = layout.add();
+    layout.chamber_air = layout.add();
+    if (orifice.present) layout.port_air = layout.add();
+  }
+  FlowRippleElement(p).add_states(layout);
+  return layout;
+}
+
+namespace {
+
+OilState oil_of(const ModelParameters& p) {
+  return oil_state(p.viscosity_grade, p.viscosity_index, p.viscosity_at_100c, p.density, p.thermal_expansion,
+                   p.temperature);
+}
+
+// Dynamic viscosity over that of the reference oil (46 mm^2/s at the
+// density given for 40 degC): exactly 1 for the reference oil at 40 degC.
+double viscosity_ratio_of(const ModelParameters& p, const OilState& oil) {
+  if (p.temperature == reference_temperature_c && p.viscosity_grade == reference_viscosity) return 1.0;
+  return oil.kinematic_viscosity / reference_viscosity * (oil.density / p.density);
+}
+
+}  // namespace
+
+Derived::Derived(const ModelParameters& p) {
+  const OilState oil = oil_of(p);
+  layout = layout_of(p);
+  density = p.temperature == reference_temperature_c ? p.density : oil.density;
+  viscosity_ratio = viscosity_ratio_of(p, oil);
+  control_area = pi / 4.0 * p.control_piston_diameter * p.control_piston_diameter;
+  sensing_area = pi / 4.0 * p.spool_diameter * p.spool_diameter;
+  bleed_area = pi / 4.0 * p.bleed_diameter * p.bleed_diameter * p.fault_bleed_area_factor;
+  full_flow = p.displacement * p.speed / 60.0;
+  tan_max = std::tan(p.max_swash_angle);
+  flow_force_gain = p.flow_forces ? 2.0 * p.spool_discharge_coefficient * std::cos(69.0 * pi / 180.0) : 0.0;
+  // Laminar leakage goes with 1/viscosity, viscous damping with viscosity.
+  leakage_coefficient = p.leakage_coefficient * p.fault_leakage_factor / viscosity_ratio;
+  swash_damping = p.swash_damping * viscosity_ratio;
+  spool_damping = p.spool_damping * viscosity_ratio;
+  air_fraction = std::min(p.air_fraction + p.fault_entrained_air, 0.5);
+  bias_force_at_full_stroke = p.bias_force_at_full_stroke * p.fault_bias_strength;
+  bias_rate = p.bias_rate * p.fault_bias_strength;
+  setting = p.setting * (1.0 - p.fault_setting_drift);
+  line_volume = p.line_volume * p.fault_line_volume_factor;
+  case_pressure = p.tank_pressure + p.fault_case_pressure;
+  coulomb_friction = p.fault_spool_friction;
+  breakaway_friction = p.fault_spool_friction * p.fault_stiction_ratio;
+  swash_friction = p.swash_friction;
+  cavitation = CavitationElement(p);
+  control_orifice = ControlOrificeElement(p);
+  relief = ReliefValveElement(p);
+  ripple = FlowRippleElement(p);
+}
+
+namespace {
+
+// Forward-mode automatic differentiation with derivative vectors of N
+// entries (Eigen::Dynamic: any size up to max_states). A fixed N lets the
+// compiler unroll the derivative arithmetic, which dominates the cost of a
+// step, so the common layout sizes get their own instance.
+template <int N>
+Jacobian jacobian_of_size(const ModelParameters& p, const Derived& d, const StopModes& modes, const State& x) {
+  using Derivatives = Eigen::Matrix<double, N, 1, 0, (N == Eigen::Dynamic ? max_states : N), 1>;
+  using Dual = Eigen::AutoDiffScalar<Derivatives>;
+  const int n = static_cast<int>(x.size());
+  StateOf<Dual> xd(n);
+  for (int i = 0; i < n; ++i) xd[i] = Dual(x[i], n, i);
   const StateOf<Dual> f = derivatives<Dual>(p, d, modes, xd);
-  Jacobian jac;
-  for (int i = 0; i < state::size; ++i) jac.row(i) = f[i].derivatives().transpose();
+  Jacobian jac(n, n);
+  for (int i = 0; i < n; ++i) {
+    // A rate that does not depend on the state (a constant) carries no derivatives.
+    if (f[i].derivatives().size() == n)
+      jac.row(i) = f[i].derivatives().transpose();
+    else
+      jac.row(i).setZero();
+  }
   return jac;
+}
+
+}  // namespace
+
+Jacobian jacobian(const ModelParameters& p, const Derived& d, const StopModes& modes, const State& x) {
+  switch (x.size()) {
+    case 6:
+      return jacobian_of_size<6>(p, d, modes, x);
+    case 7:
+      return jacobian_of_size<7>(p, d, modes, x);
+    case 8:
+      return jacobian_of_size<8>(p, d, modes, x);
+    case 9:
+      return jacobian_of_size<9>(p, d, modes, x);
+    case 10:
+      return jacobian_of_size<10>(p, d, modes, x);
+    case 11:
+      return jacobian_of_size<11>(p, d, modes, x);
+    default:
+      return jacobian_of_size<Eigen::Dynamic>(p, d, modes, x);
+  }
 }
 
 }  // namespace swashtune

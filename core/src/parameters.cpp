@@ -18,13 +18,32 @@ constexpr Range non_negative(double max) { return Range{0.0, max, false, false};
 
 using P = ModelParameters;
 
+// A registry row that also accepts a word for a special value (stored
+// outside the range), e.g. "none" for a part that is not fitted.
+ParameterSpec with_word(ParameterSpec spec, std::string_view word, double value) {
+  spec.none_word = word;
+  spec.none_value = value;
+  return spec;
+}
+
 std::vector<ParameterSpec> make_parameters() {
   // clang-format off
   return {
-    {"fluid.density", "rho", "kg/m^3", 870.0, Range{500.0, 2000.0}, "density of the oil", "kg/m^3", "lb/in^3", &P::density},
+    {"fluid.density", "rho", "kg/m^3", 870.0, Range{500.0, 2000.0}, "density of the oil at 40 degC", "kg/m^3", "lb/in^3", &P::density},
     {"fluid.bulk_modulus", "beta_oil", "Pa", 1.6e9, Range{1e8, 5e9}, "bulk modulus of the air-free oil", "GPa", "psi", &P::bulk_modulus},
     {"fluid.air_fraction", "x_a", "-", 0.0, Range{0.0, 0.5, false, true}, "volume fraction of undissolved air at atmospheric pressure", "%", "%", &P::air_fraction},
     {"fluid.polytropic_index", "n", "-", 1.4, Range{1.0, 1.4}, "polytropic index of the air (1 isothermal, 1.4 adiabatic)", "-", "-", &P::polytropic_index},
+    {"fluid.cavitation", "", "-", 0.0, Range{0.0, 1.0}, "no pressure below vapour pressure; dissolved air comes out below saturation (false: v1, oil may go into tension)", "-", "-", nullptr, &P::cavitation},
+    {"fluid.vapour_pressure", "p_v", "Pa", 1e3, Range{1.0, 5e4}, "vapour pressure of the oil, absolute", "bar", "psi", &P::vapour_pressure},
+    {"fluid.dissolved_air", "alpha", "-", 0.09, Range{0.0, 0.3}, "air dissolved per oil volume at saturation, as volume at atmospheric pressure (Henry's law)", "%", "%", &P::dissolved_air},
+    {"fluid.saturation_pressure", "p_sat", "Pa", 101325.0, Range{1e4, 1e6}, "absolute pressure at which the oil was saturated with air (the tank's)", "bar", "psi", &P::saturation_pressure},
+    {"fluid.air_release_time", "tau_r", "s", 0.05, Range{1e-4, 100.0}, "time constant of dissolved air coming out below saturation", "ms", "ms", &P::air_release_time},
+    {"fluid.air_absorption_time", "tau_a", "s", 2.0, Range{1e-3, 1e4}, "time constant of released air dissolving again above saturation", "s", "s", &P::air_absorption_time},
+    {"fluid.viscosity_grade", "nu_40", "mm^2/s", 46.0, Range{2.5, 1500.0}, "kinematic viscosity at 40 degC (ISO 3448 grade, e.g. 32, 46, 68)", "mm^2/s", "mm^2/s", &P::viscosity_grade},
+    {"fluid.viscosity_index", "VI", "-", 100.0, Range{-50.0, 400.0}, "viscosity index (ASTM D2270); sets the 100 degC viscosity unless that is given", "-", "-", &P::viscosity_index},
+    with_word({"fluid.viscosity_at_100C", "nu_100", "mm^2/s", 0.0, Range{2.0, 500.0}, "kinematic viscosity at 100 degC (\"from index\": from grade and viscosity index)", "mm^2/s", "mm^2/s", &P::viscosity_at_100c}, "from index", 0.0),
+    {"fluid.temperature", "T", "degC", 40.0, Range{-40.0, 150.0}, "oil temperature; coefficients of leakage and damping are given at 40 degC", "degC", "degF", &P::temperature},
+    {"fluid.thermal_expansion", "alpha_T", "K^-1", 7e-4, Range{0.0, 2e-3}, "volumetric thermal expansion of the oil (density is given at 40 degC)", "K^-1", "K^-1", &P::thermal_expansion},
 
     {"pump.displacement", "D_max", "m^3/rev", 45e-6, positive(1e-2), "displacement at full stroke", "cm^3/rev", "in^3/rev", &P::displacement},
     {"pump.speed", "N", "rev/min", 1800.0, non_negative(2e4), "shaft speed", "rev/min", "rev/min", &P::speed},
@@ -33,6 +52,9 @@ std::vector<ParameterSpec> make_parameters() {
     {"pump.swash_inertia", "J", "kg*m^2", 0.003, positive(10.0), "moment of inertia of the swashplate", "kg*m^2", "lb*in^2", &P::swash_inertia},
     {"pump.swash_damping", "c_a", "N*m*s/rad", 1.0, non_negative(1e5), "viscous damping of the swashplate", "N*m*s/rad", "lbf*in*s/rad", &P::swash_damping},
     {"pump.pressure_moment", "K_carry", "N*m/Pa", 0.0, Range{-1e-4, 1e-4}, "swash moment per unit discharge pressure (+ destrokes)", "N*m/bar", "lbf*in/psi", &P::pressure_moment},
+    {"pump.swash_friction", "M_f", "N*m", 0.0, non_negative(1e3), "Coulomb friction moment of the swash cradle", "N*m", "lbf*in", &P::swash_friction},
+    {"pump.pistons", "z", "-", 9.0, Range{3.0, 15.0}, "number of pistons", "-", "-", &P::pistons},
+    {"pump.flow_ripple", "", "-", 0.0, Range{0.0, 1.0}, "add the kinematic flow ripple of the pistons", "-", "-", nullptr, &P::flow_ripple},
 
     {"bias_spring.rate", "k_b", "N/m", 20e3, non_negative(1e8), "rate of the bias spring", "N/mm", "lbf/in", &P::bias_rate},
     {"bias_spring.force_at_full_stroke", "F_b,full", "N", 400.0, non_negative(1e6), "bias spring force at full stroke", "N", "lbf", &P::bias_force_at_full_stroke},
@@ -53,6 +75,13 @@ std::vector<ParameterSpec> make_parameters() {
     {"compensator.discharge_coefficient", "Cd", "-", 0.7, Range{0.0, 1.0, true, false}, "discharge coefficient of the metering edges", "-", "-", &P::spool_discharge_coefficient},
     {"compensator.flow_forces", "", "-", 1.0, Range{0.0, 1.0}, "include steady flow forces on the spool", "-", "-", nullptr, &P::flow_forces},
     {"compensator.bleed_orifice", "d_b", "m", 0.4e-3, non_negative(0.05), "diameter of the fixed bleed from control chamber to case (0: none)", "mm", "in", &P::bleed_diameter},
+    with_word({"compensator.control_orifice", "d_o", "m", inf, positive(0.05), "orifice in the control line between the spool's control port and the control piston (\"none\": open passage)", "mm", "in", &P::control_orifice}, "none", inf),
+    {"compensator.orifice_discharge_coefficient", "Cd_o", "-", 0.7, Range{0.0, 1.0, true, false}, "discharge coefficient of the control orifice", "-", "-", &P::orifice_discharge_coefficient},
+    {"compensator.port_volume", "V_k", "m^3", 5e-6, positive(1e-3), "oil volume between the spool's control port and the control orifice", "cm^3", "in^3", &P::port_volume},
+
+    with_word({"relief.setting", "p_r", "Pa", inf, positive(1e9), "cracking pressure of the relief valve on the discharge line (\"none\": no valve)", "bar", "psi", &P::relief_setting}, "none", inf),
+    {"relief.override", "dp_r", "Pa", 15e5, positive(1e8), "pressure rise above cracking at the rated flow", "bar", "psi", &P::relief_override},
+    {"relief.rated_flow", "Q_r", "m^3/s", 100.0 / 60000.0, positive(1.0), "flow of the relief valve at cracking pressure plus override", "L/min", "gpm", &P::relief_rated_flow},
 
     {"line.volume", "V_d", "m^3", 1.0e-3, positive(10.0), "oil volume between pump and load valve", "L", "in^3", &P::line_volume},
     {"line.tank_pressure", "p_t", "Pa", 0.0, non_negative(1e7), "case and tank pressure", "bar", "psi", &P::tank_pressure},

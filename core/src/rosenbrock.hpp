@@ -15,11 +15,13 @@
 namespace swashtune::detail {
 
 // System: Vec rhs(double t, const Vec& x); void jacobian(double t, const Vec& x, Mat& J, Vec& dfdt).
-template <int N>
+// N may be Eigen::Dynamic with a fixed maximum MaxN: the vectors then live
+// on the stack and take the size of the state they are given.
+template <int N, int MaxN = N>
 class Rosenbrock4 {
  public:
-  using Vec = Eigen::Matrix<double, N, 1>;
-  using Mat = Eigen::Matrix<double, N, N>;
+  using Vec = Eigen::Matrix<double, N, 1, 0, MaxN, 1>;
+  using Mat = Eigen::Matrix<double, N, N, 0, MaxN, MaxN>;
 
   Rosenbrock4(double atol, double rtol) : atol_(atol), rtol_(rtol) {}
 
@@ -72,7 +74,7 @@ class Rosenbrock4 {
     Vec dfdt;
     const Vec dxdt = system.rhs(t, x);
     system.jacobian(t, x, jacobian, dfdt);
-    const Mat m = Mat::Identity() / (c.gamma * dt) - jacobian;
+    const Mat m = Mat::Identity(x.size(), x.size()) / (c.gamma * dt) - jacobian;
     const Eigen::PartialPivLU<Mat> lu(m);
 
     g1_ = lu.solve(dxdt + dt * c.d1 * dfdt);
@@ -93,11 +95,12 @@ class Rosenbrock4 {
 
   double error_norm(const Vec& x, const Vec& x_old, const Vec& x_err) const {
     double err = 0.0;
-    for (int i = 0; i < N; ++i) {
+    const int n = static_cast<int>(x.size());
+    for (int i = 0; i < n; ++i) {
       const double sk = atol_ + rtol_ * std::max(std::abs(x_old[i]), std::abs(x[i]));
       err += x_err[i] * x_err[i] / (sk * sk);
     }
-    return std::sqrt(err / N);
+    return std::sqrt(err / n);
   }
 
   void prepare_dense_output() {

@@ -243,10 +243,15 @@ class Reader {
       spec.set(owner, b->get() ? 1.0 : 0.0);
       return;
     }
+    if (const auto* word = node.as_string(); word && !spec.none_word.empty() && word->get() == spec.none_word) {
+      spec.set(owner, spec.none_value);
+      return;
+    }
     const double value = read_quantity(node, key, spec.unit, example_of(spec));
     if (!spec.range.contains(value)) {
       const std::string unit = spec.unit == "-" ? "" : " " + std::string(spec.unit);
       std::string expected = quantity_name(spec.unit) + " " + spec.range.describe(spec.unit);
+      if (!spec.none_word.empty()) expected += ", or \"" + std::string(spec.none_word) + "\"";
       std::string got = format_number(value) + unit;
       if (const auto* s = node.as_string()) {
         expected += range_in_unit(spec.range, spec.unit, unit_part(s->get()));
@@ -415,7 +420,9 @@ std::string scenario_to_toml(const Scenario& scenario) {
       if (section_of(spec.key) != section) continue;
       const double value = spec.get(scenario.parameters);
       if (value == spec.default_value) continue;
-      add(spec.key, spec.is_flag() ? (value != 0.0 ? "true" : "false") : float_literal(value));
+      add(spec.key, spec.is_flag()        ? (value != 0.0 ? "true" : "false")
+                    : spec.is_none(value) ? string_literal(spec.none_word)
+                                          : float_literal(value));
     }
     if (!body.empty()) out << "\n[" << section << "]\n" << body;
   }

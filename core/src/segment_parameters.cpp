@@ -27,6 +27,12 @@ void SegmentParameters::begin(double t0, double t1) {
   params_time_ = t0;
 }
 
+double SegmentParameters::slope(double ModelParameters::*field) const {
+  for (const Ramp& r : ramps_)
+    if (r.spec->field == field) return r.slope;
+  return 0.0;
+}
+
 const ModelParameters& SegmentParameters::params(double t) {
   if (!ramps_.empty() && t != params_time_) {
     for (const Ramp& r : ramps_) r.spec->set(params_, r.start + r.slope * (t - segment_start_));

@@ -16,7 +16,7 @@
 namespace swashtune {
 namespace {
 
-using Stepper = detail::Rosenbrock4<state::size>;
+using Stepper = detail::Rosenbrock4<Eigen::Dynamic, max_states>;
 
 constexpr double infinity = std::numeric_limits<double>::infinity();
 
@@ -51,7 +51,15 @@ class ScaledDynamics {
   State rates(double t, const State& x) {
     ++stats_.rhs_evaluations;
     const ModelParameters& p = params(t);
-    return derivatives<double>(p, segment_.derived(t), modes_, x);
+    State dx = derivatives<double>(p, segment_.derived(t), modes_, x);
+    add_stop_motion(modes_, stop_motion(), dx);
+    return dx;
+  }
+
+  // How fast the stops move in this stretch (their parameters ramp linearly).
+  StopMotion stop_motion() const {
+    return StopMotion{segment_.slope(&ModelParameters::max_swash_angle),
+                      segment_.slope(&ModelParameters::spool_travel)};
   }
 
   // The stepper's view: rates and Jacobian in scaled states.
@@ -64,7 +72,7 @@ class ScaledDynamics {
     jac = scale_.cwiseInverse().asDiagonal() * swashtune::jacobian(p, segment_.derived(t), modes_, x) *
           scale_.asDiagonal();
     if (!segment_.ramping()) {
-      dfdt.setZero();
+      dfdt.setZero(z.size());
       return;
     }
     // Parameters are linear in t here, so a central difference is accurate.
@@ -104,9 +112,16 @@ SolverError::SolverError(double time, const std::string& why)
 State state_scale(const ModelParameters& p) {
   const double pressure = std::max(p.setting, 1e6);
   const double response_time = 0.01;  // s, a typical loop time constant
-  State s;
-  s << pressure, pressure, p.max_swash_angle, p.max_swash_angle / response_time, p.spool_travel,
-      p.spool_travel / response_time;
+  const Layout layout = layout_of(p);
+  State s(layout.size);
+  s.head<state::core_size>() << pressure, pressure, p.max_swash_angle, p.max_swash_angle / response_time,
+      p.spool_travel, p.spool_travel / response_time;
+  const double air = std::max(p.dissolved_air, 1e-3);
+  for (int i : {layout.port_pressure})
+    if (i >= 0) s[i] = pressure;
+  for (int i : {layout.line_air, layout.chamber_air, layout.port_air})
+    if (i >= 0) s[i] = air;
+  if (layout.shaft_angle >= 0) s[layout.shaft_angle] = 2.0 * pi;
   return s;
 }
 
@@ -131,9 +146,11 @@ InitialCondition full_stroke_guess(const ModelParameters& p) {
     }
   }
   InitialCondition ic;
-  ic.x.setZero();
+  const Layout layout = layout_of(p);
+  ic.x = zero_state(layout);
   ic.x[state::discharge_pressure] = line_pressure;
   ic.x[state::control_pressure] = p.tank_pressure;
+  if (layout.port_pressure >= 0) ic.x[layout.port_pressure] = p.tank_pressure;
   ic.x[state::swash_angle] = p.max_swash_angle;
   ic.modes.swash = Stop::upper;
   ic.modes.spool = Stop::free;
@@ -173,7 +190,10 @@ struct Simulator::Impl {
 
   double sample_time(long long k) const { return static_cast<double>(k) * settings.sample_interval; }
 
-  void pin_held() { pin_held_coordinates(schedule.at(t), modes, x); }
+  void pin_held() {
+    const ModelParameters p = schedule.at(t);
+    pin_to_stops(p, Derived(p), thresholds, dynamics.stop_motion(), modes, x);
+  }
 
   double guard_value(StopGuard g, double ts, const State& xs) {
     return stop_guard_value(g, dynamics.params(ts), dynamics.derived(ts), modes, thresholds, xs);
@@ -256,6 +276,7 @@ struct Simulator::Impl {
       if (restart || stop_at != segment_end) {
         dynamics.begin_segment(t, corner, modes);
         segment_end = stop_at;
+        pin_held();  // held coordinates take up the new stretch's stop motion
       }
       if (restart) {
         stepper.emplace(settings.atol, settings.rtol);
@@ -374,7 +395,8 @@ RunResult run_scenario(const Scenario& scenario, const RunOptions& options) {
   const std::size_t windows = scenario.events.size();
   result.window_peaks.assign(windows, -infinity);
   result.window_minima.assign(windows, infinity);
-  result.window_start_state.assign(windows, State::Constant(std::numeric_limits<double>::quiet_NaN()));
+  result.window_start_state.assign(
+      windows, State::Constant(layout_of(scenario.parameters).size, std::numeric_limits<double>::quiet_NaN()));
   result.window_end_state = result.window_start_state;
   auto window_end = [&](std::size_t i) { return i + 1 < windows ? scenario.events[i + 1].at : duration; };
   auto observe = [&](double t, const State& x) {

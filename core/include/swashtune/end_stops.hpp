@@ -49,8 +49,20 @@ double stop_guard_value(StopGuard guard, const ModelParameters& p, const Derived
 void apply_stop_switch(StopGuard guard, const ModelParameters& p, const Derived& d, const StopThresholds& thresholds,
                        StopModes& modes, State& x);
 
-// Puts every held coordinate exactly on its stop with zero velocity (a stop
-// may have moved with a parameter).
-void pin_held_coordinates(const ModelParameters& p, const StopModes& modes, State& x);
+// How fast the stops move while a parameter ramps: d(a_max)/dt and
+// d(x_max)/dt (the lower swash stop, zero stroke, never moves).
+struct StopMotion {
+  double full_stroke_rate = 0.0;   // rad/s
+  double spool_travel_rate = 0.0;  // m/s
+};
+
+// Puts every held coordinate exactly on its stop, moving with it, and a
+// free coordinate that a moving stop has overtaken onto that stop (held
+// there unless the force already points away).
+void pin_to_stops(const ModelParameters& p, const Derived& d, const StopThresholds& thresholds,
+                  const StopMotion& motion, StopModes& modes, State& x);
+
+// Adds the motion of the stops to the rates of the coordinates held on them.
+void add_stop_motion(const StopModes& modes, const StopMotion& motion, State& dx);
 
 }  // namespace swashtune

@@ -1,7 +1,11 @@
-// The reference lumped-parameter model (model.md, v1): state layout and the
-// right-hand side as pure functions of (state, parameters, stop modes).
-// No I/O, no allocation; templated on the scalar so that the Jacobian can be
-// taken by forward automatic differentiation.
+// The lumped-parameter model: the six-state v1 model of model.md (pump,
+// swashplate, control piston, compensator spool, discharge line, load
+// valve) and the v2 elements (cavitation and air release, control-line
+// orifice, oil temperature, relief valve, swash friction and pressure
+// moment, flow ripple). With every v2 element at its off value the model is
+// v1 exactly. Pure functions of (state, parameters, stop modes); no I/O, no
+// allocation; templated on the scalar so that the Jacobian is forward
+// automatic differentiation of the very same code.
 #pragma once
 
 #include <Eigen/Core>
@@ -9,28 +13,17 @@
 #include <cmath>
 
 #include "swashtune/fluid.hpp"
+#include "swashtune/model/control_orifice.hpp"
+#include "swashtune/model/flow_ripple.hpp"
+#include "swashtune/model/fluid_node.hpp"
+#include "swashtune/model/layout.hpp"
+#include "swashtune/model/oil.hpp"
+#include "swashtune/model/relief_valve.hpp"
 #include "swashtune/parameters.hpp"
 
 namespace swashtune {
 
 inline constexpr double pi = 3.14159265358979323846;
-
-namespace state {
-enum Index : int {
-  discharge_pressure = 0,  // p_d, Pa
-  control_pressure = 1,    // p_c, Pa
-  swash_angle = 2,         // a, rad
-  swash_velocity = 3,      // w, rad/s
-  spool_position = 4,      // x_s, m
-  spool_velocity = 5,      // v_s, m/s
-  size = 6
-};
-}  // namespace state
-
-template <class T>
-using StateOf = Eigen::Matrix<T, state::size, 1>;
-using State = StateOf<double>;
-using Jacobian = Eigen::Matrix<double, state::size, state::size>;
 
 // End stops are hard: a coordinate that reaches a stop is held there with zero
 // velocity until the net force on it points away from the stop.
@@ -54,23 +47,34 @@ T orifice_flow(double cd, const T& area, const T& dp, double density, double tra
   return T(cd * std::sqrt(2.0 / density) * area * dp / root);
 }
 
-// Friction of a sticky spool (faults.spool_friction): Coulomb friction with a
-// Stribeck rise to the breakaway force at low speed, made smooth through zero
-// speed (tanh) so that the stiff integrator never has to locate a stick event.
-inline constexpr double friction_smoothing_speed = 1e-4;  // m/s
-inline constexpr double stribeck_speed = 2e-3;            // m/s
+// Friction that opposes a motion at speed v: Coulomb level plus a Stribeck
+// rise to the breakaway level at low speed, made smooth through zero speed
+// (tanh) so that the stiff integrator never has to locate a stick event.
+inline constexpr double friction_smoothing_speed = 1e-4;        // m/s, spool
+inline constexpr double stribeck_speed = 2e-3;                  // m/s, spool
+inline constexpr double swash_friction_smoothing_speed = 1e-3;  // rad/s
+
+// The viscosity the pump's leakage and damping coefficients are given for:
+// an oil of 46 mm^2/s (ISO VG 46 at 40 degC, the default).
+inline constexpr double reference_viscosity = 46.0;  // mm^2/s
 
 // Quantities derived from the parameters once per evaluation, with the fault
-// conditions folded in; a healthy machine gives model.md v1 exactly.
+// conditions and the oil's temperature folded in, and the state layout of
+// the elements present.
 struct Derived {
-  double control_area;  // A_c
-  double sensing_area;  // A_s
+  Layout layout;
+  double density;          // at the oil's temperature
+  double viscosity_ratio;  // dynamic viscosity over that of the reference oil
+  double control_area;     // A_c
+  double sensing_area;     // A_s
   double bleed_area;
   double full_flow;  // D_max N / 60, m^3/s
   double tan_max;
   double flow_force_gain;  // 2 Cd cos(69 deg), or 0 without flow forces
   double leakage_coefficient;
-  double air_fraction;
+  double swash_damping;
+  double spool_damping;
+  double air_fraction;  // entrained (free) air
   double bias_force_at_full_stroke;
   double bias_rate;
   double setting;  // the pressure the spring preload balances
@@ -78,91 +82,118 @@ struct Derived {
   double case_pressure;  // where the control chamber and the bleed drain
   double coulomb_friction;
   double breakaway_friction;
+  double swash_friction;
+  CavitationElement cavitation;
+  ControlOrificeElement control_orifice;
+  ReliefValveElement relief;
+  FlowRippleElement ripple;
 
-  explicit Derived(const ModelParameters& p)
-      : control_area(pi / 4.0 * p.control_piston_diameter * p.control_piston_diameter),
-        sensing_area(pi / 4.0 * p.spool_diameter * p.spool_diameter),
-        bleed_area(pi / 4.0 * p.bleed_diameter * p.bleed_diameter * p.fault_bleed_area_factor),
-        full_flow(p.displacement * p.speed / 60.0),
-        tan_max(std::tan(p.max_swash_angle)),
-        flow_force_gain(p.flow_forces ? 2.0 * p.spool_discharge_coefficient * std::cos(69.0 * pi / 180.0) : 0.0),
-        leakage_coefficient(p.leakage_coefficient * p.fault_leakage_factor),
-        air_fraction(std::min(p.air_fraction + p.fault_entrained_air, 0.5)),
-        bias_force_at_full_stroke(p.bias_force_at_full_stroke * p.fault_bias_strength),
-        bias_rate(p.bias_rate * p.fault_bias_strength),
-        setting(p.setting * (1.0 - p.fault_setting_drift)),
-        line_volume(p.line_volume * p.fault_line_volume_factor),
-        case_pressure(p.tank_pressure + p.fault_case_pressure),
-        coulomb_friction(p.fault_spool_friction),
-        breakaway_friction(p.fault_spool_friction * p.fault_stiction_ratio) {}
+  explicit Derived(const ModelParameters& p);
 };
 
-// Every flow of the model at one state, m^3/s.
+// The layout alone (which elements the parameters switch on).
+Layout layout_of(const ModelParameters& p);
+
+// Every flow of the model at one state, m^3/s, and the node pressures.
 template <class T>
 struct FlowsOf {
+  T line_pressure;      // p_d, what the flows see (the vapour floor applied)
+  T chamber_pressure;   // p_c
+  T port_pressure;      // p_k, the spool's control port (= p_c without an orifice)
   T geometric;          // Q_g
   T leakage;            // Q_leak
-  T to_control;         // Q_pc, discharge -> control chamber
-  T control_to_case;    // Q_ct
+  T to_control;         // Q_pc, discharge -> control port
+  T control_to_case;    // Q_ct, control port -> case
+  T through_orifice;    // Q_o, control port -> chamber (= Q_pc - Q_ct without an orifice)
   T bleed;              // Q_b
   T load;               // Q_load
+  T relief;             // Q_r
   T metering_area_in;   // A_pc
   T metering_area_out;  // A_ct
 };
 using Flows = FlowsOf<double>;
 
+// The pump's geometric flow at swash angle a (tangent law), with the
+// pistons' ripple when that element is present.
+template <class T>
+T geometric_flow(const Derived& d, const T& a, const StateOf<T>& x) {
+  using std::tan;
+  T q = d.full_flow * tan(a) / d.tan_max;
+  if (d.ripple.present) q *= d.ripple.factor(x[d.layout.shaft_angle]);
+  return q;
+}
+
 template <class T>
 FlowsOf<T> flows(const ModelParameters& p, const Derived& d, const StateOf<T>& x) {
-  using std::tan;
-  const T& p_d = x[state::discharge_pressure];
-  const T& p_c = x[state::control_pressure];
-  const T& a = x[state::swash_angle];
-  const T& x_s = x[state::spool_position];
-  const double rho = p.density;
+  const double rho = d.density;
   const double dp_tr = p.transition_pressure;
+  const T& x_s = x[state::spool_position];
 
   FlowsOf<T> f;
-  f.geometric = d.full_flow * tan(a) / d.tan_max;
+  f.line_pressure = d.cavitation.pressure(x[state::discharge_pressure]);
+  f.chamber_pressure = d.cavitation.pressure(x[state::control_pressure]);
+  f.port_pressure = d.control_orifice.present ? d.cavitation.pressure(x[d.layout.port_pressure]) : f.chamber_pressure;
+  const T& p_d = f.line_pressure;
+  const T& p_c = f.chamber_pressure;
+  const T& p_k = f.port_pressure;
+
+  f.geometric = geometric_flow(d, x[state::swash_angle], x);
   f.leakage = d.leakage_coefficient * p_d;
   const T open_in = p.underlap + x_s;
   const T open_out = p.underlap - x_s;
   f.metering_area_in = open_in > 0.0 ? T(p.port_width * open_in) : T(0.0);
   f.metering_area_out = open_out > 0.0 ? T(p.port_width * open_out) : T(0.0);
   const double cd = p.spool_discharge_coefficient;
-  f.to_control = orifice_flow(cd, f.metering_area_in, T(p_d - p_c), rho, dp_tr);
-  f.control_to_case = orifice_flow(cd, f.metering_area_out, T(p_c - d.case_pressure), rho, dp_tr);
+  f.to_control = orifice_flow(cd, f.metering_area_in, T(p_d - p_k), rho, dp_tr);
+  f.control_to_case = orifice_flow(cd, f.metering_area_out, T(p_k - d.case_pressure), rho, dp_tr);
+  f.through_orifice = d.control_orifice.present ? orifice_flow(d.control_orifice.discharge_coefficient,
+                                                               T(d.control_orifice.area), T(p_k - p_c), rho, dp_tr)
+                                                : T(f.to_control - f.control_to_case);
   f.bleed = orifice_flow(cd, T(d.bleed_area), T(p_c - d.case_pressure), rho, dp_tr);
   f.load =
       orifice_flow(p.valve_discharge_coefficient, T(p.opening * p.valve_area), T(p_d - p.tank_pressure), rho, dp_tr);
+  f.relief = d.relief.flow(p_d, p.tank_pressure);
   return f;
 }
 
-// Net moment on the swashplate with its velocity set to zero (positive
-// strokes the pump); decides when a plate held at a stop is released.
+// Volume of the control chamber at swash angle a (the piston extension
+// r_c (a_max - a) destrokes the pump).
 template <class T>
-T swash_static_moment(const ModelParameters& p, const Derived& d, const StateOf<T>& x) {
+T control_volume(const ModelParameters& p, const Derived& d, const T& a) {
+  return p.control_dead_volume + d.control_area * p.control_piston_arm * (p.max_swash_angle - a);
+}
+
+// Net moment on the swashplate with its velocity set to zero (positive
+// strokes the pump), without friction; decides when a plate held at a stop
+// is released (friction then adds to the threshold).
+template <class T>
+T swash_static_moment(const ModelParameters& p, const Derived& d, const FlowsOf<T>& f, const StateOf<T>& x) {
   const T bias_force =
       d.bias_force_at_full_stroke + d.bias_rate * p.bias_arm * (p.max_swash_angle - x[state::swash_angle]);
-  return p.bias_arm * bias_force - p.control_piston_arm * d.control_area * x[state::control_pressure] -
-         p.pressure_moment * x[state::discharge_pressure];
+  return p.bias_arm * bias_force - p.control_piston_arm * d.control_area * f.chamber_pressure -
+         p.pressure_moment * f.line_pressure;
+}
+
+template <class T>
+T swash_static_moment(const ModelParameters& p, const Derived& d, const StateOf<T>& x) {
+  return swash_static_moment(p, d, flows(p, d, x), x);
 }
 
 // Steady flow force on the spool: a 69 degree jet tends to close each
 // metering edge, F = 2 Cd cos(69 deg) A dp (Merritt 1967, ch. 5).
 template <class T>
-T spool_flow_force(const Derived& d, const FlowsOf<T>& f, const StateOf<T>& x) {
+T spool_flow_force(const Derived& d, const FlowsOf<T>& f) {
   if (d.flow_force_gain == 0.0) return T(0.0);
-  const T& p_d = x[state::discharge_pressure];
-  const T& p_c = x[state::control_pressure];
-  return d.flow_force_gain * (-f.metering_area_in * (p_d - p_c) + f.metering_area_out * (p_c - d.case_pressure));
+  return d.flow_force_gain * (-f.metering_area_in * (f.line_pressure - f.port_pressure) +
+                              f.metering_area_out * (f.port_pressure - d.case_pressure));
 }
 
 // Net force on the spool with its velocity set to zero (positive opens
-// discharge -> control chamber).
+// discharge -> control port).
 template <class T>
 T spool_static_force(const ModelParameters& p, const Derived& d, const FlowsOf<T>& f, const StateOf<T>& x) {
-  return d.sensing_area * (x[state::discharge_pressure] - d.setting) - p.spool_spring_rate * x[state::spool_position] +
-         spool_flow_force(d, f, x);
+  return d.sensing_area * (f.line_pressure - d.setting) - p.spool_spring_rate * x[state::spool_position] +
+         spool_flow_force(d, f);
 }
 
 // Friction force on a spool moving at v (opposes the motion).
@@ -176,29 +207,74 @@ T spool_friction(const Derived& d, const T& v) {
   return T(-level * tanh(T(v / friction_smoothing_speed)));
 }
 
-// dx/dt of model.md. A coordinate held at a stop has zero rates.
+// Coulomb friction moment of the swash cradle at angular speed w.
+template <class T>
+T swash_friction(const Derived& d, const T& w) {
+  if (d.swash_friction == 0.0) return T(0.0);
+  using std::tanh;
+  return T(-d.swash_friction * tanh(T(w / swash_friction_smoothing_speed)));
+}
+
+// The pressure rate of a volume V that takes the net flow q_net,
+// beta_e / V * q_net, with the entrained air alone (v1) or with air
+// released from the oil (a state of the cavitation element).
+template <class T>
+T pressure_rate(const ModelParameters& p, const Derived& d, const T& pressure, const T* released_air, const T& volume,
+                const T& q_net) {
+  const T beta = released_air ? bulk_modulus_with_air(pressure, p.bulk_modulus, T(d.air_fraction + *released_air),
+                                                      p.polytropic_index)
+                              : effective_bulk_modulus(pressure, p.bulk_modulus, d.air_fraction, p.polytropic_index);
+  return beta / volume * q_net;
+}
+
+// dx/dt. A coordinate held at a stop has zero rates here (the simulator
+// adds the motion of a moving stop).
 template <class T>
 StateOf<T> derivatives(const ModelParameters& p, const Derived& d, const StopModes& modes, const StateOf<T>& x) {
+  const Layout& L = d.layout;
   const FlowsOf<T> f = flows(p, d, x);
-  const T& p_d = x[state::discharge_pressure];
-  const T& p_c = x[state::control_pressure];
   const T& a = x[state::swash_angle];
   const T& w = x[state::swash_velocity];
   const T& v_s = x[state::spool_velocity];
 
-  const T beta_d = effective_bulk_modulus(p_d, p.bulk_modulus, d.air_fraction, p.polytropic_index);
-  const T beta_c = effective_bulk_modulus(p_c, p.bulk_modulus, d.air_fraction, p.polytropic_index);
+  StateOf<T> dx(L.size);
   const double piston_moment_arm_area = d.control_area * p.control_piston_arm;
-  const T control_volume = p.control_dead_volume + piston_moment_arm_area * (p.max_swash_angle - a);
+  const T chamber_volume = control_volume(p, d, a);
 
-  StateOf<T> dx;
-  dx[state::discharge_pressure] = beta_d / d.line_volume * (f.geometric - f.leakage - f.to_control - f.load);
+  // Released air in each volume (cavitation element), and the volume it adds.
+  const T* air_line = nullptr;
+  const T* air_chamber = nullptr;
+  const T* air_port = nullptr;
+  T release_line(0.0), release_chamber(0.0), release_port(0.0);
+  if (L.line_air >= 0) {
+    const CavitationElement& c = d.cavitation;
+    air_line = &x[L.line_air];
+    air_chamber = &x[L.chamber_air];
+    dx[L.line_air] = c.air_rate(f.line_pressure, *air_line);
+    dx[L.chamber_air] = c.air_rate(f.chamber_pressure, *air_chamber);
+    release_line = c.released_volume_rate(f.line_pressure, T(dx[L.line_air]), T(d.line_volume));
+    release_chamber = c.released_volume_rate(f.chamber_pressure, T(dx[L.chamber_air]), chamber_volume);
+    if (L.port_air >= 0) {
+      air_port = &x[L.port_air];
+      dx[L.port_air] = c.air_rate(f.port_pressure, *air_port);
+      release_port = c.released_volume_rate(f.port_pressure, T(dx[L.port_air]), T(d.control_orifice.port_volume));
+    }
+  }
+
+  dx[state::discharge_pressure] =
+      pressure_rate(p, d, f.line_pressure, air_line, T(d.line_volume),
+                    T(f.geometric - f.leakage - f.to_control - f.load - f.relief + release_line));
+  if (d.control_orifice.present)
+    dx[L.port_pressure] = pressure_rate(p, d, f.port_pressure, air_port, T(d.control_orifice.port_volume),
+                                        T(f.to_control - f.control_to_case - f.through_orifice + release_port));
   dx[state::control_pressure] =
-      beta_c / control_volume * (f.to_control - f.control_to_case - f.bleed + piston_moment_arm_area * w);
+      pressure_rate(p, d, f.chamber_pressure, air_chamber, chamber_volume,
+                    T(f.through_orifice - f.bleed + piston_moment_arm_area * w + release_chamber));
 
   if (modes.swash == Stop::free) {
     dx[state::swash_angle] = w;
-    dx[state::swash_velocity] = (swash_static_moment(p, d, x) - p.swash_damping * w) / p.swash_inertia;
+    dx[state::swash_velocity] =
+        (swash_static_moment(p, d, f, x) - d.swash_damping * w + swash_friction(d, w)) / p.swash_inertia;
   } else {
     dx[state::swash_angle] = T(0.0);
     dx[state::swash_velocity] = T(0.0);
@@ -206,11 +282,12 @@ StateOf<T> derivatives(const ModelParameters& p, const Derived& d, const StopMod
   if (modes.spool == Stop::free) {
     dx[state::spool_position] = v_s;
     dx[state::spool_velocity] =
-        (spool_static_force(p, d, f, x) - p.spool_damping * v_s + spool_friction(d, v_s)) / p.spool_mass;
+        (spool_static_force(p, d, f, x) - d.spool_damping * v_s + spool_friction(d, v_s)) / p.spool_mass;
   } else {
     dx[state::spool_position] = T(0.0);
     dx[state::spool_velocity] = T(0.0);
   }
+  if (d.ripple.present) dx[L.shaft_angle] = T(d.ripple.shaft_speed);
   return dx;
 }
 
@@ -222,5 +299,8 @@ inline State derivatives(const ModelParameters& p, const StopModes& modes, const
 Jacobian jacobian(const ModelParameters& p, const Derived& d, const StopModes& modes, const State& x);
 
 inline Flows flows(const ModelParameters& p, const State& x) { return flows<double>(p, Derived(p), x); }
+
+// A state of the layout's size with every entry zero.
+inline State zero_state(const Layout& layout) { return State::Zero(layout.size); }
 
 }  // namespace swashtune

@@ -19,6 +19,17 @@ struct ModelParameters {
   double bulk_modulus = 0;
   double air_fraction = 0;
   double polytropic_index = 0;
+  bool cavitation = false;         // floor at vapour pressure, release of dissolved air
+  double vapour_pressure = 0;      // Pa absolute
+  double dissolved_air = 0;        // air volume (at atmosphere) dissolved per oil volume at saturation
+  double saturation_pressure = 0;  // Pa absolute, where the oil was saturated with air
+  double air_release_time = 0;     // s
+  double air_absorption_time = 0;  // s
+  double viscosity_grade = 0;      // mm^2/s at 40 degC (ISO 3448 VG)
+  double viscosity_index = 0;      // ASTM D2270
+  double viscosity_at_100c = 0;    // mm^2/s; 0: from the viscosity index
+  double temperature = 0;          // degC
+  double thermal_expansion = 0;    // 1/K, volumetric
   // pump
   double displacement = 0;  // m^3/rev at full stroke
   double speed = 0;         // rev/min
@@ -27,6 +38,9 @@ struct ModelParameters {
   double swash_inertia = 0;
   double swash_damping = 0;
   double pressure_moment = 0;
+  double swash_friction = 0;  // N*m, Coulomb moment on the cradle
+  double pistons = 0;         // number of pistons
+  bool flow_ripple = false;   // kinematic flow ripple of the pistons
   // bias spring
   double bias_rate = 0;
   double bias_force_at_full_stroke = 0;
@@ -47,6 +61,13 @@ struct ModelParameters {
   double spool_discharge_coefficient = 0;
   bool flow_forces = true;
   double bleed_diameter = 0;
+  double control_orifice = 0;  // m diameter; +infinity: an open passage (no orifice)
+  double orifice_discharge_coefficient = 0;
+  double port_volume = 0;  // m^3 between the spool's control port and the orifice
+  // relief valve on the discharge line
+  double relief_setting = 0;     // Pa cracking pressure; +infinity: no relief valve
+  double relief_override = 0;    // Pa rise above cracking at the rated flow
+  double relief_rated_flow = 0;  // m^3/s
   // discharge line
   double line_volume = 0;
   double tank_pressure = 0;
@@ -101,6 +122,12 @@ struct FieldSpec {
   std::string_view us_unit;
   double Owner::*field = nullptr;
   bool Owner::*flag = nullptr;  // set instead of field for on/off switches
+  // A word that stands for a special value outside the range, e.g. "none"
+  // for an orifice that is not fitted (stored as +infinity). Empty: none.
+  std::string_view none_word{};
+  double none_value = 0.0;
+
+  bool is_none(double v) const { return !none_word.empty() && v == none_value; }
 
   bool is_flag() const { return flag != nullptr; }
   double get(const Owner& o) const { return is_flag() ? (o.*flag ? 1.0 : 0.0) : o.*field; }

@@ -21,6 +21,8 @@ class SegmentParameters {
   const ModelParameters& params(double t);
   const Derived& derived(double t);
   bool ramping() const { return !ramps_.empty(); }
+  // d/dt of one parameter within the stretch (0 when it does not ramp).
+  double slope(double ModelParameters::*field) const;
 
  private:
   struct Ramp {

@@ -28,7 +28,9 @@ struct SolverStats {
 // One row of the trace: the state plus the flows a user wants to see.
 struct Sample {
   double time = 0.0;
-  State x = State::Zero();
+  // The model's state (the layout of the study's elements), on the heap:
+  // a trace holds many samples and most studies use a few of max_states.
+  Eigen::VectorXd x;
   double pump_flow = 0.0;     // Q_g - Q_leak: what the pump delivers into the line
   double load_flow = 0.0;     // through the load valve
   double leakage_flow = 0.0;  // internal leakage
@@ -49,7 +51,7 @@ class SolverError : public std::runtime_error {
 };
 
 struct InitialCondition {
-  State x = State::Zero();
+  State x;
   StopModes modes;
 };
 

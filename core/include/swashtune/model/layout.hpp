@@ -1,0 +1,48 @@
+// The model's state vector: the six states of the v1 model always come
+// first, at fixed indices; the optional elements present in a study add
+// theirs after them. The layout is assembled once from the parameters (an
+// element's presence cannot change during a run) and the state lives in a
+// stack-allocated vector of a fixed maximum size.
+#pragma once
+
+#include <Eigen/Core>
+
+namespace swashtune {
+
+inline constexpr int max_states = 48;
+
+namespace state {
+enum Index : int {
+  discharge_pressure = 0,  // p_d, Pa (with cavitation: the line's pressure state, see fluid_node.hpp)
+  control_pressure = 1,    // p_c, Pa
+  swash_angle = 2,         // a, rad
+  swash_velocity = 3,      // w, rad/s
+  spool_position = 4,      // x_s, m
+  spool_velocity = 5,      // v_s, m/s
+  core_size = 6
+};
+}  // namespace state
+
+template <class T>
+using StateOf = Eigen::Matrix<T, Eigen::Dynamic, 1, 0, max_states, 1>;
+using State = StateOf<double>;
+using Jacobian = Eigen::Matrix<double, Eigen::Dynamic, Eigen::Dynamic, 0, max_states, max_states>;
+
+// Where the optional elements keep their states; -1 when absent.
+struct Layout {
+  int size = state::core_size;
+  int port_pressure = -1;  // control orifice: pressure of the spool's control port
+  int line_air = -1;       // cavitation: released air in the line
+  int chamber_air = -1;    //   ... in the control chamber
+  int port_air = -1;       //   ... in the control port
+  int shaft_angle = -1;    // flow ripple: shaft angle, rad
+
+  int add() { return size++; }
+  friend bool operator==(const Layout& a, const Layout& b) {
+    return a.size == b.size && a.port_pressure == b.port_pressure && a.line_air == b.line_air &&
+           a.chamber_air == b.chamber_air && a.port_air == b.port_air && a.shaft_angle == b.shaft_angle;
+  }
+  friend bool operator!=(const Layout& a, const Layout& b) { return !(a == b); }
+};
+
+}  // namespace swashtune
