@@ -10,12 +10,14 @@
 #include <optional>
 #include <sstream>
 #include <string>
+#include <thread>
 #include <vector>
 
 #include "cvode_peer.hpp"
 #include "swashtune/results_io.hpp"
 #include "swashtune/scenario.hpp"
 #include "swashtune/simulator.hpp"
+#include "sweep_bench.hpp"
 
 namespace {
 
@@ -315,10 +317,37 @@ int main(int argc, char** argv) {
   app.add_flag("--check", check_mode,
                "exit 1 unless each method's error against the reference is below 100 x rtol x peak and the two "
                "methods agree within 1 % of the peak (does not depend on timing)");
+  bool sweep_mode = false;
+  bench::SweepBenchOptions sweep;
+  sweep.cli = SWASHTUNE_CLI;
+  sweep.vary = {"line.volume=0.5L:4L:40", "compensator.setting=150bar:250bar:25"};  // the README's job
+  sweep.cores = static_cast<int>(std::max(1u, std::thread::hardware_concurrency()));
+  app.add_flag("--sweep", sweep_mode,
+               "throughput of swashtune-cli sweep on the first scenario: runs per second and memory per process on "
+               "1, 2 and N threads and as N shards (exit 1 if the layouts' merged tables differ)");
+  app.add_option("--vary", sweep.vary, "with --sweep: the sweep's axes, as for swashtune-cli sweep (repeatable)")
+      ->allow_extra_args(false);
+  app.add_option("--cores", sweep.cores, "with --sweep: N (default: the cores of this machine)")
+      ->check(CLI::Range(1, 256));
+  app.add_option("--cli", sweep.cli, "with --sweep: the swashtune-cli to measure")->capture_default_str();
   try {
     app.parse(argc, argv);
   } catch (const CLI::ParseError& e) {
     return app.exit(e) == 0 ? exit_ok : exit_bad_input;
+  }
+
+  if (sweep_mode) {
+    sweep.scenario = scenarios.front();
+    try {
+      const auto results = bench::run_sweep_bench(sweep);
+      std::cout << (json ? bench::sweep_bench_json(sweep, results) : bench::sweep_bench_table(sweep, results));
+      for (const auto& r : results)
+        if (!r.same_table) return exit_check_failed;
+      return exit_ok;
+    } catch (const std::exception& e) {
+      std::cerr << "swashtune-bench --sweep: " << e.what() << "\n";
+      return exit_bad_input;
+    }
   }
 
   std::vector<ScenarioBench> benches;
