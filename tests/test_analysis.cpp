@@ -4,6 +4,8 @@
 
 #include <Eigen/Eigenvalues>
 #include <cmath>
+#include <cstdio>
+#include <random>
 
 #include "swashtune/analysis.hpp"
 #include "swashtune/metrics.hpp"
@@ -223,20 +225,224 @@ TEST(StabilityMap, SmallerLineVolumeLowersGainMargin) {
   EXPECT_LT(*map.points[1].gain_margin_db, *map.points[2].gain_margin_db);
 }
 
-// With the feedback opened at the sensing area the flow forces still feel
-// p_d: at the demo's deadhead they make the opened loop unstable by
-// themselves, which the report must say (margins then need Nyquist's reading).
-TEST(Margins, ReportsUnstablePolesOfTheOpenedLoop) {
-  ModelParameters p = deadhead();
-  const StabilityReport with_forces = analyse_stability(p, default_settings());
-  EXPECT_TRUE(with_forces.stable);
-  EXPECT_EQ(with_forces.open_loop_unstable_poles, 1);
-  p.flow_forces = false;
-  const StabilityReport without = analyse_stability(p, default_settings());
-  EXPECT_EQ(without.open_loop_unstable_poles, 0);
-  // Independent count from the open-loop matrix itself.
-  const Eigen::VectorXcd poles = Eigen::EigenSolver<Eigen::MatrixXd>(without.model.scale.cwiseInverse().asDiagonal() *
-                                                                     without.model.a * without.model.scale.asDiagonal())
-                                     .eigenvalues();
-  EXPECT_TRUE((poles.real().array() < 0.0).all());
+// The loop break of interfaces.md ("Stability v2"): u replaces the swash
+// angle in the tangent law Q_g = D_max N/60 tan(u)/tan(a_max) and nothing
+// else. So B is the law's derivative on the discharge-pressure row only,
+// dp_d/dt = beta_e/V_d (... + Q_g), dQ_g/du = D_max N/60 (1 + tan^2 u)/tan(a_max)
+// (model.md), C picks the angle, and closing u = a gives back the model's
+// own Jacobian.
+TEST(LoopBreak, OpensOnlyTheTangentLaw) {
+  const ModelParameters p = deadhead();
+  const OperatingPoint op = steady_state(p, default_settings());
+  ASSERT_EQ(op.condition.modes.swash, Stop::free);
+  const LinearModel m = linearise(p, op.condition);
+  ASSERT_TRUE(m.loop_active);
+  const State& x = op.condition.x;
+  const double a = x[state::swash_angle];
+  const double beta =
+      effective_bulk_modulus(x[state::discharge_pressure], p.bulk_modulus, p.air_fraction, p.polytropic_index);
+  const double expected_b = beta / p.line_volume * p.displacement * p.speed / 60.0 * (1.0 + std::tan(a) * std::tan(a)) /
+                            std::tan(p.max_swash_angle);
+  for (int r = 0; r < m.b.size(); ++r) {
+    if (m.states[r] == state::discharge_pressure)
+      EXPECT_NEAR(m.b[r] / expected_b, 1.0, 1e-12);
+    else
+      EXPECT_EQ(m.b[r], 0.0) << "row " << r;
+    EXPECT_EQ(m.c[r], m.states[r] == state::swash_angle ? 1.0 : 0.0);
+  }
+  const Jacobian full = jacobian(p, Derived(p), op.condition.modes, x);
+  const Eigen::MatrixXd closed = m.closed_loop();
+  for (int r = 0; r < closed.rows(); ++r)
+    for (int c = 0; c < closed.cols(); ++c) {
+      const double want = full(m.states[r], m.states[c]);
+      EXPECT_NEAR(closed(r, c), want, 1e-12 * std::abs(want) + 1e-300) << r << "," << c;
+    }
+}
+
+namespace {
+
+// n equal first-order lags w0/(s + w0) in series with gain K: L(s) = K / (s/w0 + 1)^n,
+// realised as G = -L.
+LinearModel lag_chain(int n, double k, double w0) {
+  LinearModel m;
+  m.a = Eigen::MatrixXd::Zero(n, n);
+  for (int i = 0; i < n; ++i) {
+    m.states.push_back(i);
+    m.a(i, i) = -w0;
+    if (i > 0) m.a(i, i - 1) = w0;
+  }
+  m.b = Eigen::VectorXd::Zero(n);
+  m.b[0] = -k * w0;
+  m.c = Eigen::RowVectorXd::Zero(n);
+  m.c[n - 1] = 1.0;
+  m.scale = Eigen::VectorXd::Ones(n);
+  m.loop_active = true;
+  return m;
+}
+
+}  // namespace
+
+// Every crossing, not just the first: L(s) = K / (s/w0 + 1)^7 has phase
+// -7 atan(w/w0), so it lies on the negative real axis at -180 deg and again
+// at -540 deg, at w = w0 tan(180/7 deg) and w0 tan(540/7 deg), where
+// |L| = K cos^7(angle); |L| = 1 at w = w0 sqrt(K^(2/7) - 1). With K = 4 the
+// closed loop is unstable: 1 + L = 0 needs K^(1/7) cos(180/7 deg) > 1
+// (root locus of a repeated pole; e.g. Ogata, Modern Control Engineering),
+// here 1.219 x 0.901 = 1.098, so the first gain margin is negative.
+TEST(Margins, ReportsEveryCrossingOfASevenfoldLag) {
+  const double w0 = 2 * pi * 100.0, k = 4.0;
+  const LoopMargins m = loop_margins(lag_chain(7, k, w0));
+  ASSERT_EQ(m.phase_crossovers.size(), 2u);
+  ASSERT_EQ(m.gain_crossovers.size(), 1u);
+  const double angles[2] = {pi / 7.0, 3.0 * pi / 7.0};
+  for (int i = 0; i < 2; ++i) {
+    EXPECT_NEAR(m.phase_crossovers[i].frequency_hz, 100.0 * std::tan(angles[i]), 1e-7);
+    EXPECT_NEAR(m.phase_crossovers[i].gain_margin_db, -20.0 * std::log10(k * std::pow(std::cos(angles[i]), 7)), 1e-7);
+  }
+  const double wc = std::sqrt(std::pow(k, 2.0 / 7.0) - 1.0);
+  EXPECT_NEAR(m.gain_crossovers[0].frequency_hz, 100.0 * wc, 1e-7);
+  double pm = 180.0 - 7.0 * std::atan(wc) * 180.0 / pi;
+  EXPECT_NEAR(m.gain_crossovers[0].phase_margin_deg, pm, 1e-6);
+  EXPECT_LT(pm, 0.0);
+  // The smallest of each, and the frequency it belongs to.
+  EXPECT_EQ(*m.gain_margin_db, m.phase_crossovers[0].gain_margin_db);
+  EXPECT_LT(*m.gain_margin_db, 0.0);
+  EXPECT_EQ(*m.phase_crossover_frequency_hz, m.phase_crossovers[0].frequency_hz);
+  EXPECT_EQ(*m.crossover_frequency_hz, m.gain_crossovers[0].frequency_hz);
+}
+
+// Modulus margin of L = K / (s/w0 + 1)^2: |1 + L|^2 = ((1 - u + K)^2 + 4u) / (1 + u)^2
+// with u = (w/w0)^2 (algebra on the definition); its minimum is found here by
+// a fine scan of that closed form, not of the code's own evaluation of L.
+TEST(Margins, ModulusMarginOfADoubleLag) {
+  const double w0 = 2 * pi * 50.0, k = 9.0;
+  const LoopMargins m = loop_margins(lag_chain(2, k, w0));
+  ASSERT_TRUE(m.modulus_margin && m.modulus_margin_frequency_hz);
+  const auto distance = [&](double u) { return std::sqrt((std::pow(1 - u + k, 2) + 4 * u) / std::pow(1 + u, 2)); };
+  double best = 1e9, best_u = 0.0;
+  for (double u = 0.0; u < 1e4; u *= 1.0 + 1e-6, u += 1e-9)
+    if (distance(u) < best) {
+      best = distance(u);
+      best_u = u;
+    }
+  EXPECT_NEAR(*m.modulus_margin, best, 1e-9);
+  EXPECT_NEAR(*m.modulus_margin_frequency_hz / (50.0 * std::sqrt(best_u)), 1.0, 1e-4);
+  EXPECT_TRUE(m.phase_crossovers.empty());  // the phase only tends to -180 deg
+}
+
+namespace {
+
+// Closed-loop minus open-loop unstable poles, from the eigenvalues.
+int pole_difference(const StabilityReport& r) { return r.closed_loop_unstable_poles - r.open_loop_unstable_poles; }
+
+}  // namespace
+
+// The Nyquist criterion: L(jw) encircles -1 clockwise as many times as the
+// closed loop has unstable poles more than the opened loop (H. Nyquist,
+// "Regeneration theory", Bell Syst. Tech. J. 11, 1932). The encirclements
+// are counted from the frequency response, the poles from eigenvalues.
+TEST(Nyquist, EncirclementsEqualUnstablePoleDifferenceOnTheDemos) {
+  const std::string dir = std::string(SWASHTUNE_SOURCE_DIR) + "/scenarios/";
+  int checked = 0;
+  for (const char* name : {"hunting-oversized-damping-orifice.toml", "hunting-remedy.toml", "sticky-spool.toml",
+                           "valve-slam.toml", "aerated-oil.toml", "setting-under-flow.toml"})
+    for (double opening : {-1.0, 0.0, 0.05, 0.1}) {
+      const Scenario s = load_scenario(dir + name);
+      ModelParameters p = s.parameters;
+      if (opening >= 0.0) p.opening = opening;
+      const StabilityReport r = analyse_stability(p, s.settings);
+      if (!r.model.loop_active) continue;
+      const std::optional<int> n = nyquist_encirclements(r.model);
+      ASSERT_TRUE(n) << name << " at opening " << p.opening;
+      EXPECT_EQ(*n, pole_difference(r)) << name << " at opening " << p.opening;
+      ++checked;
+    }
+  EXPECT_GE(checked, 12);
+}
+
+TEST(Nyquist, EncirclementsEqualUnstablePoleDifferenceAtRandomPoints) {
+  std::mt19937_64 generator(20240611);
+  const auto unit = [&] { return static_cast<double>(generator() >> 11) * 0x1.0p-53; };
+  const auto log_between = [&](double lo, double hi) { return lo * std::pow(hi / lo, unit()); };
+  int checked = 0, unstable = 0, open_unstable = 0, encircling = 0;
+  for (int i = 0; i < 400 && checked < 60; ++i) {
+    ModelParameters p = default_parameters();
+    p.line_volume = log_between(0.1e-3, 5e-3);
+    p.spool_damping = log_between(2.0, 100.0);
+    p.spool_mass = log_between(3e-3, 0.03);
+    p.setting = log_between(50e5, 350e5);
+    p.opening = 0.15 * unit();
+    p.bias_rate *= log_between(0.5, 2.0);
+    p.spool_spring_rate = log_between(20e3, 200e3);
+    p.swash_damping = log_between(0.2, 5.0);
+    p.air_fraction = 0.02 * unit();
+    p.flow_forces = unit() < 0.7;
+    p.bleed_diameter = log_between(0.2e-3, 0.8e-3);
+    const StabilityReport r = analyse_stability(p, default_settings());
+    if (!r.model.loop_active || !r.operating_point.converged) continue;
+    const std::optional<int> n = nyquist_encirclements(r.model);
+    ASSERT_TRUE(n) << "point " << i;
+    EXPECT_EQ(*n, pole_difference(r)) << "point " << i;
+    ++checked;
+    unstable += r.stable ? 0 : 1;
+    open_unstable += r.open_loop_unstable_poles > 0 ? 1 : 0;
+    encircling += *n != 0 ? 1 : 0;
+  }
+  EXPECT_GE(checked, 50);
+  // The points must exercise the criterion, not only its trivial case.
+  EXPECT_GT(unstable, 0);
+  EXPECT_GT(encircling, 0);
+  std::printf("checked %d points: %d unstable, %d with an unstable open loop, %d encircling -1\n", checked, unstable,
+              open_unstable, encircling);
+}
+
+// Margins are stability margins only when the loop is active, the opened
+// loop is stable and the model is linear enough; otherwise they are listed
+// but flagged, with the reason in words.
+TEST(Margins, SayWhenTheyDoNotApply) {
+  const std::string dir = std::string(SWASHTUNE_SOURCE_DIR) + "/scenarios/";
+  const Scenario remedy = load_scenario(dir + "hunting-remedy.toml");
+  const StabilityReport good = analyse_stability(remedy.parameters, remedy.settings);
+  EXPECT_TRUE(good.stable);
+  EXPECT_TRUE(good.margins_apply);
+  EXPECT_TRUE(good.note.empty()) << good.note;
+  ASSERT_TRUE(good.margins.gain_margin_db);
+  EXPECT_GT(*good.margins.gain_margin_db, 0.0);
+
+  // Full stroke: the swashplate rests on its stop, nothing to open.
+  const Scenario slam = load_scenario(dir + "valve-slam.toml");
+  const StabilityReport open = analyse_stability(slam.parameters, slam.settings);
+  EXPECT_FALSE(open.model.loop_active);
+  EXPECT_FALSE(open.margins_apply);
+  EXPECT_FALSE(open.margins.gain_margin_db || open.margins.phase_margin_deg || open.margins.modulus_margin);
+  EXPECT_NE(open.note.find("full stroke"), std::string::npos) << open.note;
+
+  // Sticky spool: friction makes any linear model's margins meaningless.
+  const Scenario sticky = load_scenario(dir + "sticky-spool.toml");
+  ModelParameters p = sticky.parameters;
+  p.opening = 0.0;
+  const StabilityReport stick = analyse_stability(p, sticky.settings);
+  EXPECT_TRUE(stick.dry_friction);
+  EXPECT_FALSE(stick.margins_apply);
+  EXPECT_NE(stick.note.find("stick-slip"), std::string::npos) << stick.note;
+  EXPECT_NE(stick.note.find("oscillation analysis of a run"), std::string::npos) << stick.note;
+}
+
+// The plain-words reading follows the eigenvalues and the margins:
+// 20 log10(4.5) = 13.06 dB is "4.5 times more gain".
+TEST(Margins, ExplainedInPlainWords) {
+  StabilityReport r;
+  r.stable = true;
+  r.model = lag_chain(3, 8.0 / 4.5, 2 * pi * 100.0);  // GM = 20 log10(8 / K) = 20 log10(4.5)
+  r.margins = loop_margins(r.model);
+  r.margins_apply = true;
+  r.modes = modes_of(r.model.closed_loop(), r.model.scale);
+  const std::vector<std::string> lines = explain_stability(r);
+  ASSERT_GE(lines.size(), 4u);
+  EXPECT_EQ(lines[0].rfind("Stable", 0), 0u) << lines[0];
+  EXPECT_NE(lines[1].find("can take 4.5 times more gain (13.1 dB) before it hunts"), std::string::npos) << lines[1];
+  r.margins_apply = false;
+  r.note = "because";
+  const std::vector<std::string> flagged = explain_stability(r);
+  for (const std::string& line : flagged) EXPECT_EQ(line.find("times more gain"), std::string::npos) << line;
 }

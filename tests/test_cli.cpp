@@ -172,10 +172,15 @@ TEST_F(Cli, ParameterTableInResourcesIsCurrent) {
 TEST_F(Cli, StabilityAndSteadyPrintTheInterfaceKeys) {
   const Outcome st = cli("stability " + demo + " --opening 0 --json");
   ASSERT_EQ(st.exit_code, 0) << st.err;
-  for (const char* key : {"\"operating_point\"", "\"load_opening\"", "\"discharge_pressure_Pa\"", "\"swash_angle_rad\"",
-                          "\"spool_position_m\"", "\"eigenvalues\"", "\"re\"", "\"im\"", "\"dominant\"",
-                          "\"frequency_Hz\"", "\"damping_ratio\"", "\"loop\"", "\"gain_margin_dB\"",
-                          "\"phase_margin_deg\"", "\"crossover_frequency_Hz\"", "\"stable\""})
+  for (const char* key :
+       {"\"operating_point\"", "\"load_opening\"", "\"discharge_pressure_Pa\"", "\"swash_angle_rad\"",
+        "\"spool_position_m\"", "\"eigenvalues\"", "\"re\"", "\"im\"", "\"dominant\"", "\"frequency_Hz\"",
+        "\"damping_ratio\"", "\"loop\"", "\"gain_margin_dB\"", "\"phase_margin_deg\"", "\"crossover_frequency_Hz\"",
+        "\"stable\"",
+        // Stability v2
+        "\"break\": \"swash angle in the pump flow\"", "\"phase_crossover_frequency_Hz\"", "\"modulus_margin\"",
+        "\"modulus_margin_frequency_Hz\"", "\"gain_crossovers\"", "\"phase_crossovers\"",
+        "\"open_loop_unstable_poles\"", "\"closed_loop_unstable_poles\"", "\"applies\": true", "\"note\""})
     EXPECT_NE(st.out.find(key), std::string::npos) << key;
   const Outcome sd = cli("steady " + demo + " --points 5 --json");
   ASSERT_EQ(sd.exit_code, 0) << sd.err;
@@ -184,7 +189,21 @@ TEST_F(Cli, StabilityAndSteadyPrintTheInterfaceKeys) {
     EXPECT_NE(sd.out.find(key), std::string::npos) << key;
   const Outcome table = cli("stability " + demo + " --opening 0");
   EXPECT_NE(table.out.find("gain margin"), std::string::npos);
+  EXPECT_NE(table.out.find("times more gain"), std::string::npos) << table.out;
   EXPECT_NE(table.out.find("Caution"), std::string::npos);
+}
+
+// A sticky spool: the operating-point analysis says a linear model cannot
+// describe stick-slip and points at the run's oscillation analysis.
+TEST_F(Cli, StabilityOfAStickySpoolWarns) {
+  const std::string sticky = std::string(SWASHTUNE_SOURCE_DIR) + "/scenarios/sticky-spool.toml";
+  const Outcome table = cli("stability " + sticky + " --opening 0");
+  ASSERT_EQ(table.exit_code, 0) << table.err;
+  EXPECT_NE(table.out.find("cannot describe stick-slip"), std::string::npos) << table.out;
+  EXPECT_NE(table.out.find("do NOT apply"), std::string::npos) << table.out;
+  const Outcome json = cli("stability " + sticky + " --opening 0 --json");
+  EXPECT_NE(json.out.find("\"applies\": false"), std::string::npos);
+  EXPECT_NE(json.out.find("stick-slip"), std::string::npos);
 }
 
 TEST_F(Cli, StabilityRefusesBadArgumentsWithExitTwo) {

@@ -3,6 +3,7 @@
 #include <QComboBox>
 #include <QDoubleSpinBox>
 #include <QImage>
+#include <QJsonArray>
 #include <QJsonDocument>
 #include <QJsonObject>
 #include <QProcess>
@@ -153,6 +154,7 @@ class DesktopTest : public QObject {
     QCOMPARE(cli.exitCode(), 0);
     const QJsonObject loop = QJsonDocument::fromJson(cli.readAllStandardOutput()).object()["loop"].toObject();
     QVERIFY(loop["gain_margin_dB"].isDouble());
+    QVERIFY(loop["applies"].toBool());
 
     MainWindow w(quiet());
     w.openFile(demo);
@@ -160,7 +162,37 @@ class DesktopTest : public QObject {
     w.refreshNow();
     QCOMPARE(w.margins()->gainMarginText(), format_margin_db(loop["gain_margin_dB"].toDouble()));
     QCOMPARE(w.margins()->phaseMarginText(), format_margin_deg(loop["phase_margin_deg"].toDouble()));
-    QCOMPARE(w.margins()->crossoverText(), format_frequency(loop["crossover_frequency_Hz"].toDouble()));
+    QVERIFY(w.margins()->modulusMarginText().startsWith(format_modulus(loop["modulus_margin"].toDouble())));
+    QStringList crossovers;
+    for (const QJsonValue& c : loop["gain_crossovers"].toArray())
+      crossovers << format_frequency(c.toObject()["frequency_Hz"].toDouble());
+    QCOMPARE(w.margins()->crossoverText(), crossovers.join(", "));
+    // A stable loop whose margins apply: good news, in plain words.
+    QCOMPARE(w.margins()->gainMarginColour(), w.margins()->goodColour());
+    QVERIFY2(w.margins()->explanationText().contains("times more gain"), qPrintable(w.margins()->explanationText()));
+  }
+
+  // The hunting demo reads as unstable, every crossing is marked, and the
+  // margins (whose inner loop is unstable by itself) are never drawn as safe.
+  void marginsViewNeverPaintsTheHuntingDemoSafe() {
+    const QString hunting = QStringLiteral(SWASHTUNE_SOURCE_DIR "/scenarios/hunting-oversized-damping-orifice.toml");
+    QProcess cli;
+    cli.start(SWASHTUNE_CLI, {"stability", hunting, "--json"});
+    QVERIFY(cli.waitForFinished(30000));
+    const QJsonObject doc = QJsonDocument::fromJson(cli.readAllStandardOutput()).object();
+    const QJsonObject loop = doc["loop"].toObject();
+    QVERIFY(!doc["stable"].toBool());
+
+    MainWindow w(quiet());
+    w.openFile(hunting);
+    w.refreshNow();
+    QVERIFY2(w.margins()->verdictText().startsWith("UNSTABLE"), qPrintable(w.margins()->verdictText()));
+    QCOMPARE(w.margins()->crossingMarkCount(),
+             loop["gain_crossovers"].toArray().size() + loop["phase_crossovers"].toArray().size());
+    QVERIFY(w.margins()->crossingMarkCount() >= 2);
+    if (!loop["applies"].toBool()) QVERIFY(w.margins()->gainMarginText().endsWith("(does not apply)"));
+    QVERIFY(w.margins()->gainMarginColour() != w.margins()->goodColour());
+    QVERIFY(w.margins()->explanationText().contains("UNSTABLE"));
   }
 
   void settingUnderFlowWarnsAndAtDeadheadDoesNot() {

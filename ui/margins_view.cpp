@@ -27,13 +27,18 @@ QString format_frequency(const std::optional<double>& v) {
   return v ? QString::asprintf("%.4g Hz", *v) : QStringLiteral("none");
 }
 
+QString format_modulus(const std::optional<double>& v) {
+  return v ? QString::asprintf("%.3f", *v) : QStringLiteral("none");
+}
+
 namespace {
 
 constexpr int kBodePoints = 601;  // 100 a decade over the margin search span
 
 const QRgb kCurveColour = 0x1971c2;     // L(jw), and the stable eigenvalues
 const QRgb kUnstableColour = 0xe03131;  // eigenvalues with Re >= 0, negative margins, the UNSTABLE verdict
-const QRgb kMarginColour = 0x2b8a3e;    // positive margins, the stable verdict
+const QRgb kMarginColour = 0x2b8a3e;    // margins that apply to a stable loop, the stable verdict
+const QRgb kCautionColour = 0xb35c00;   // margins that do not apply, the reason why
 const QRgb kDominantColour = 0xe8590c;  // the least damped oscillatory pair
 
 // Frequency labels as an engineer reads them: 0.1, 1, 10, 100, 1k, 10k, 100k.
@@ -107,10 +112,12 @@ struct MarginsView::Impl : QObject {
   QCPGraph* phase = nullptr;
   QCPItemStraightLine* zeroDb = nullptr;
   QCPItemStraightLine* minus180 = nullptr;
-  QCPItemStraightLine* crossLine[2]{};       // gain crossover in the magnitude and phase charts
-  QCPItemStraightLine* phaseCrossLine[2]{};  // phase crossover likewise
-  QCPItemText* crossText = nullptr;
-  QCPItemText* phaseCrossText = nullptr;
+  QCPItemStraightLine* furtherOdd[3]{};   // -540, -900, -1260 deg: L is on the negative real axis there too
+  QCPGraph* gainCrossDots = nullptr;      // on the 0 dB line at every gain crossover
+  QCPGraph* phaseCrossDots = nullptr;     // on the phase curve at every phase crossover
+  QList<QCPAbstractItem*> crossingItems;  // one vertical line per chart and a label per crossing, rebuilt per report
+  int crossingMarks = 0;
+  QCPItemText* notApplyText = nullptr;
   QCPItemLine* gainBracket = nullptr;
   QCPItemText* gainText = nullptr;
   QCPItemLine* phaseBracket = nullptr;
@@ -124,9 +131,11 @@ struct MarginsView::Impl : QObject {
   QLabel* dominantLabelText = nullptr;
   QLabel* gainLabel = nullptr;
   QLabel* phaseLabel = nullptr;
+  QLabel* modulusLabel = nullptr;
   QLabel* crossoverLabel = nullptr;
   QLabel* phaseCrossoverLabel = nullptr;
   QLabel* verdictLabel = nullptr;
+  QLabel* explanationLabel = nullptr;
   QList<QLabel*> names;
 
   explicit Impl(MarginsView* v) : view(v) {}
@@ -139,9 +148,17 @@ struct MarginsView::Impl : QObject {
   void showEigenvalues();
   void showBode();
   void hideBodeMarks();  // the crossover lines, margin brackets and their labels
+  void clearCrossings();
+  void addCrossing(double hz, bool gain, const QString& label, int row);
   void showFigures();
   void styleVerdict();
   void styleMarginItems();
+  void styleFigures();
+  // Green only for a margin that applies to a stable loop; red for one that
+  // applies and is negative (or belongs to an unstable loop); a margin that
+  // does not apply is drawn in the caution colour, never as good news.
+  QColor marginColour(const std::optional<double>& value) const;
+  bool marginsApply() const { return report && report->margins_apply; }
 
   bool eventFilter(QObject* watched, QEvent* event) override {
     if (watched == view && (event->type() == QEvent::PaletteChange || event->type() == QEvent::FontChange))
@@ -220,7 +237,8 @@ void MarginsView::Impl::buildEigen() {
 
 void MarginsView::Impl::buildBode() {
   bode->plotLayout()->insertRow(0);
-  bodeTitle = new QCPTextElement(bode, QStringLiteral("loop transfer L(j\u03c9), opened at the spool's sensing area"));
+  bodeTitle =
+      new QCPTextElement(bode, QStringLiteral("loop transfer L(j\u03c9), opened at the swash angle in the pump flow"));
   bode->plotLayout()->addElement(0, 0, bodeTitle);
   magRect = bode->axisRect();
   phaseRect = new QCPAxisRect(bode);
@@ -263,16 +281,21 @@ void MarginsView::Impl::buildBode() {
   place_reference(zeroDb, false, 0.0);
   minus180 = reference_line(bode, phaseRect, false);
   place_reference(minus180, false, -180.0);
-  QCPAxisRect* rects[2] = {magRect, phaseRect};
-  for (int i = 0; i < 2; ++i) {
-    crossLine[i] = reference_line(bode, rects[i], true);
-    phaseCrossLine[i] = reference_line(bode, rects[i], true);
+  for (int k = 0; k < 3; ++k) {
+    furtherOdd[k] = reference_line(bode, phaseRect, false);
+    place_reference(furtherOdd[k], false, -180.0 - 360.0 * (k + 1));
   }
-  crossText = rect_text(bode, magRect);
-  phaseCrossText = rect_text(bode, magRect);
-  for (QCPItemText* t : {crossText, phaseCrossText}) {
-    t->position->setTypeY(QCPItemPosition::ptAxisRectRatio);
+  gainCrossDots = bode->addGraph(magRect->axis(QCPAxis::atBottom), magRect->axis(QCPAxis::atLeft));
+  phaseCrossDots = bode->addGraph(phaseRect->axis(QCPAxis::atBottom), phaseRect->axis(QCPAxis::atLeft));
+  for (QCPGraph* g : {gainCrossDots, phaseCrossDots}) {
+    g->setLineStyle(QCPGraph::lsNone);
+    g->setAdaptiveSampling(false);
   }
+  notApplyText = rect_text(bode, phaseRect);
+  notApplyText->position->setType(QCPItemPosition::ptAxisRectRatio);
+  notApplyText->position->setCoords(0.02, 0.97);
+  notApplyText->setPositionAlignment(Qt::AlignLeft | Qt::AlignBottom);
+  notApplyText->setTextAlignment(Qt::AlignLeft);
 
   auto bracket = [this](QCPAxisRect* rect) {
     auto* line = new QCPItemLine(bode);
@@ -296,7 +319,7 @@ void MarginsView::Impl::buildBode() {
   inactiveText = rect_text(bode, magRect);
   inactiveText->position->setType(QCPItemPosition::ptAxisRectRatio);
   inactiveText->position->setCoords(0.5, 0.5);
-  inactiveText->setText(QStringLiteral("loop inactive: the compensator spool rests on its stop\nmargins do not apply"));
+  inactiveText->setText(QStringLiteral("loop inactive: the swashplate rests on its stop\nmargins do not apply"));
   inactiveText->setTextAlignment(Qt::AlignHCenter);
 
   hideBodeMarks();
@@ -325,11 +348,18 @@ void MarginsView::Impl::buildPanel(QVBoxLayout* layout) {
   dominantLabelText = add(3, 0, "dominant mode");
   gainLabel = add(0, 3, "gain margin");
   phaseLabel = add(1, 3, "phase margin");
-  crossoverLabel = add(2, 3, "crossover");
-  phaseCrossoverLabel = add(3, 3, "phase crossover");
-  verdictLabel = add(4, 0, "verdict");
+  modulusLabel = add(2, 3, "modulus margin");
+  crossoverLabel = add(3, 3, "crossover");
+  phaseCrossoverLabel = add(4, 3, "phase crossover");
+  verdictLabel = add(5, 0, "verdict");
   grid->removeWidget(verdictLabel);
-  grid->addWidget(verdictLabel, 4, 1, 1, 5);
+  grid->addWidget(verdictLabel, 5, 1, 1, 5);
+  verdictLabel->setWordWrap(true);
+  explanationLabel = add(6, 0, "in plain words");
+  grid->removeWidget(explanationLabel);
+  grid->addWidget(explanationLabel, 6, 1, 1, 5);
+  explanationLabel->setObjectName(QStringLiteral("margins_explanation"));
+  explanationLabel->setWordWrap(true);
   // The two groups sit side by side at the left; spare width goes to the end.
   grid->setColumnMinimumWidth(2, 24);
   grid->setColumnStretch(5, 1);
@@ -382,12 +412,23 @@ void MarginsView::Impl::applyStyle() {
 
   magnitude->setPen(QPen(curve, 2));
   phase->setPen(QPen(curve, 2));
-  for (QCPItemStraightLine* line : {zeroDb, minus180}) line->setPen(QPen(axisLine, 1.3));
-  for (int i = 0; i < 2; ++i) {
-    crossLine[i]->setPen(QPen(blend(base, text, 0.5), 1, Qt::DashLine));
-    phaseCrossLine[i]->setPen(QPen(blend(base, text, 0.5), 1, Qt::DotLine));
+  for (QCPItemStraightLine* line : {zeroDb, minus180, furtherOdd[0], furtherOdd[1], furtherOdd[2]})
+    line->setPen(QPen(axisLine, 1.3));
+  for (QCPAbstractItem* item : std::as_const(crossingItems)) {
+    if (auto* line = qobject_cast<QCPItemStraightLine*>(item))
+      line->setPen(QPen(blend(base, text, 0.5), 1, line->property("gain").toBool() ? Qt::DashLine : Qt::DotLine));
+    if (auto* label = qobject_cast<QCPItemText*>(item)) {
+      label->setColor(text);
+      label->setFont(font);
+      label->setBrush(QBrush(QColor(base.red(), base.green(), base.blue(), 200)));
+    }
   }
-  for (QCPItemText* t : {crossText, phaseCrossText, inactiveText}) {
+  gainCrossDots->setScatterStyle(QCPScatterStyle(QCPScatterStyle::ssCircle, QPen(text, 1.5), base, 7));
+  phaseCrossDots->setScatterStyle(QCPScatterStyle(QCPScatterStyle::ssDiamond, QPen(text, 1.5), base, 8));
+  notApplyText->setColor(for_background(QColor(kCautionColour), dark));
+  notApplyText->setFont(font);
+  notApplyText->setBrush(QBrush(QColor(base.red(), base.green(), base.blue(), 220)));
+  for (QCPItemText* t : {inactiveText}) {
     t->setColor(text);
     t->setFont(font);
     t->setBrush(QBrush(QColor(base.red(), base.green(), base.blue(), 220)));
@@ -405,16 +446,22 @@ void MarginsView::Impl::applyStyle() {
   bode->replot(QCustomPlot::rpQueuedReplot);
 }
 
+QColor MarginsView::Impl::marginColour(const std::optional<double>& value) const {
+  const QPalette pal = view->palette();
+  const bool dark = is_dark(pal);
+  if (!report || !value) return pal.color(QPalette::WindowText);
+  if (!report->margins_apply) return for_background(QColor(kCautionColour), dark);
+  const bool good = report->stable && *value >= 0.0;
+  return for_background(QColor(good ? kMarginColour : kUnstableColour), dark);
+}
+
 void MarginsView::Impl::styleMarginItems() {
   const QPalette pal = view->palette();
   const QColor base = pal.color(QPalette::Base);
-  const bool dark = is_dark(pal);
   QFont font = view->font();
   font.setBold(true);
-  // A margin that is positive is good news; a negative one is drawn as a warning.
-  auto colour = [&](bool negative) { return for_background(QColor(negative ? kUnstableColour : kMarginColour), dark); };
-  const QColor gm = colour(report && report->margins.gain_margin_db.value_or(0.0) < 0.0);
-  const QColor pm = colour(report && report->margins.phase_margin_deg.value_or(0.0) < 0.0);
+  const QColor gm = marginColour(report ? report->margins.gain_margin_db : std::nullopt);
+  const QColor pm = marginColour(report ? report->margins.phase_margin_deg : std::nullopt);
   const std::pair<QCPItemLine*, QColor> brackets[] = {{gainBracket, gm}, {phaseBracket, pm}};
   for (const auto& [line, c] : brackets) line->setPen(QPen(c, 2));
   const std::pair<QCPItemText*, QColor> texts[] = {{gainText, gm}, {phaseText, pm}};
@@ -425,11 +472,25 @@ void MarginsView::Impl::styleMarginItems() {
   }
 }
 
+void MarginsView::Impl::styleFigures() {
+  auto paint = [](QLabel* label, const QColor& c) {
+    QPalette p = label->palette();
+    p.setColor(QPalette::WindowText, c);
+    label->setPalette(p);
+  };
+  paint(gainLabel, marginColour(report ? report->margins.gain_margin_db : std::nullopt));
+  paint(phaseLabel, marginColour(report ? report->margins.phase_margin_deg : std::nullopt));
+  paint(modulusLabel, marginColour(report ? report->margins.modulus_margin : std::nullopt));
+}
+
 void MarginsView::Impl::styleVerdict() {
   const QPalette pal = view->palette();
   const bool dark = is_dark(pal);
   QColor colour = pal.color(QPalette::WindowText);
-  if (report && report->model.loop_active)
+  // The verdict is the eigenvalues'; where a linear model cannot speak for
+  // the pump (dry friction, no steady state) it is not drawn as good news.
+  const bool trustworthy = report && !report->dry_friction && report->operating_point.converged;
+  if (report && report->model.loop_active && (!report->stable || trustworthy))
     colour = for_background(QColor(report->stable ? kMarginColour : kUnstableColour), dark);
   QPalette p = verdictLabel->palette();
   p.setColor(QPalette::WindowText, colour);
@@ -437,6 +498,7 @@ void MarginsView::Impl::styleVerdict() {
   QFont f = view->font();
   f.setBold(true);
   verdictLabel->setFont(f);
+  styleFigures();
 }
 
 void MarginsView::Impl::showEigenvalues() {
@@ -478,10 +540,46 @@ void MarginsView::Impl::showEigenvalues() {
 }
 
 void MarginsView::Impl::hideBodeMarks() {
-  for (QCPAbstractItem* item : std::initializer_list<QCPAbstractItem*>{
-           crossLine[0], crossLine[1], phaseCrossLine[0], phaseCrossLine[1], crossText, phaseCrossText, gainBracket,
-           gainText, phaseBracket, phaseText, inactiveText})
+  for (QCPAbstractItem* item :
+       std::initializer_list<QCPAbstractItem*>{gainBracket, gainText, phaseBracket, phaseText, inactiveText,
+                                               notApplyText, furtherOdd[0], furtherOdd[1], furtherOdd[2]})
     item->setVisible(false);
+  clearCrossings();
+}
+
+void MarginsView::Impl::clearCrossings() {
+  for (QCPAbstractItem* item : std::as_const(crossingItems)) bode->removeItem(item);
+  crossingItems.clear();
+  crossingMarks = 0;
+  gainCrossDots->data()->clear();
+  phaseCrossDots->data()->clear();
+}
+
+// A vertical mark through both charts at a crossing, with a short label in
+// the magnitude chart (gain crossovers along its top, phase crossovers along
+// its bottom; neighbours alternate rows so that close ones stay legible).
+void MarginsView::Impl::addCrossing(double hz, bool gain, const QString& label, int row) {
+  const QPalette pal = view->palette();
+  const QColor text = pal.color(QPalette::WindowText);
+  const QColor base = pal.color(QPalette::Base);
+  for (QCPAxisRect* rect : {magRect, phaseRect}) {
+    QCPItemStraightLine* line = reference_line(bode, rect, true);
+    place_reference(line, true, hz);
+    line->setProperty("gain", gain);
+    line->setPen(QPen(blend(base, text, 0.5), 1, gain ? Qt::DashLine : Qt::DotLine));
+    crossingItems.append(line);
+  }
+  QCPItemText* t = rect_text(bode, magRect);
+  t->position->setTypeY(QCPItemPosition::ptAxisRectRatio);
+  const double y = gain ? 0.02 + 0.1 * (row % 2) : 0.98 - 0.1 * (row % 2);
+  t->position->setCoords(hz, y);
+  t->setPositionAlignment((gain ? Qt::AlignTop : Qt::AlignBottom) | Qt::AlignHCenter);
+  t->setText(label);
+  t->setColor(text);
+  t->setFont(view->font());
+  t->setBrush(QBrush(QColor(base.red(), base.green(), base.blue(), 200)));
+  crossingItems.append(t);
+  ++crossingMarks;
 }
 
 void MarginsView::Impl::showBode() {
@@ -522,60 +620,60 @@ void MarginsView::Impl::showBode() {
     const double phBottom = std::min(*std::min_element(ph.begin(), ph.end()), -180.0);
     const double phPad = std::max(0.08 * (phTop - phBottom), 10.0);
     phaseRect->axis(QCPAxis::atLeft)->setRange(phBottom - phPad, phTop + phPad);
+    for (int k = 0; k < 3; ++k) furtherOdd[k]->setVisible(-180.0 - 360.0 * (k + 1) >= phBottom - phPad);
   }
 
-  // Each crossover's label goes on the side away from the other one.
+  // Every crossing gets its mark; the smallest margin of each kind its bracket.
+  auto phase_on_curve = [&](double hz) {
+    // The plotted (unwrapped) phase at hz, so the mark sits on the curve.
+    for (int i = 1; i < f.size(); ++i)
+      if (f[i] >= hz) {
+        const double t = std::log(hz / f[i - 1]) / std::log(f[i] / f[i - 1]);
+        return ph[i - 1] + t * (ph[i] - ph[i - 1]);
+      }
+    return ph.isEmpty() ? -180.0 : ph.back();
+  };
+  int row = 0;
+  for (const GainCrossover& g : m.gain_crossovers) {
+    addCrossing(g.frequency_hz, true, QStringLiteral("PM %1\u00b0").arg(g.phase_margin_deg, 0, 'f', 1), row++);
+    gainCrossDots->addData(g.frequency_hz, 0.0);
+  }
+  row = 0;
+  for (const PhaseCrossover& c : m.phase_crossovers) {
+    addCrossing(c.frequency_hz, false, QStringLiteral("GM %1 dB").arg(c.gain_margin_db, 0, 'f', 1), row++);
+    phaseCrossDots->addData(c.frequency_hz, phase_on_curve(c.frequency_hz));
+  }
   const bool crossFirst = !m.phase_crossover_frequency_hz ||
                           (m.crossover_frequency_hz && *m.crossover_frequency_hz <= *m.phase_crossover_frequency_hz);
-  if (m.crossover_frequency_hz) {
-    const double wc = *m.crossover_frequency_hz;
-    for (int i = 0; i < 2; ++i) {
-      place_reference(crossLine[i], true, wc);
-      crossLine[i]->setVisible(true);
-    }
-    crossText->position->setCoords(wc, 0.03);
-    crossText->setPositionAlignment(Qt::AlignTop | (crossFirst ? Qt::AlignRight : Qt::AlignLeft));
-    crossText->setText(QStringLiteral("crossover\n%1").arg(format_frequency(wc)));
-    crossText->setTextAlignment(crossFirst ? Qt::AlignRight : Qt::AlignLeft);
-    crossText->setVisible(true);
-    if (m.phase_margin_deg) {
-      const double pm = *m.phase_margin_deg;
-      phaseBracket->start->setCoords(wc, -180.0);
-      phaseBracket->end->setCoords(wc, -180.0 + pm);
-      phaseBracket->setVisible(true);
-      // Beside the bracket's foot, across the reference line from the bracket
-      // and away from the other crossover: the emptiest corner near it.
-      const double side = crossFirst ? -1.0 : 1.0;
-      phaseText->position->setCoords(6.0 * side, pm >= 0.0 ? 5.0 : -5.0);
-      phaseText->setPositionAlignment((pm >= 0.0 ? Qt::AlignTop : Qt::AlignBottom) |
-                                      (crossFirst ? Qt::AlignRight : Qt::AlignLeft));
-      phaseText->setText(QStringLiteral("phase margin %1").arg(format_margin_deg(pm)));
-      phaseText->setVisible(true);
-    }
+  if (m.crossover_frequency_hz && m.phase_margin_deg) {
+    const double wc = *m.crossover_frequency_hz, pm = *m.phase_margin_deg;
+    const double at = phase_on_curve(wc);  // the curve's value: 180 + pm wrapped onto its branch
+    const double foot = at - pm;
+    phaseBracket->start->setCoords(wc, foot);
+    phaseBracket->end->setCoords(wc, at);
+    phaseBracket->setVisible(true);
+    const double side = crossFirst ? -1.0 : 1.0;
+    phaseText->position->setCoords(6.0 * side, pm >= 0.0 ? 5.0 : -5.0);
+    phaseText->setPositionAlignment((pm >= 0.0 ? Qt::AlignTop : Qt::AlignBottom) |
+                                    (crossFirst ? Qt::AlignRight : Qt::AlignLeft));
+    phaseText->setText(QStringLiteral("phase margin %1").arg(format_margin_deg(pm)));
+    phaseText->setVisible(true);
   }
-  if (m.phase_crossover_frequency_hz) {
-    const double w180 = *m.phase_crossover_frequency_hz;
-    for (int i = 0; i < 2; ++i) {
-      place_reference(phaseCrossLine[i], true, w180);
-      phaseCrossLine[i]->setVisible(true);
-    }
-    phaseCrossText->position->setCoords(w180, 0.03);
-    phaseCrossText->setPositionAlignment(Qt::AlignTop | (crossFirst ? Qt::AlignLeft : Qt::AlignRight));
-    phaseCrossText->setText(QStringLiteral("phase crossover\n%1").arg(format_frequency(w180)));
-    phaseCrossText->setTextAlignment(crossFirst ? Qt::AlignLeft : Qt::AlignRight);
-    phaseCrossText->setVisible(true);
-    if (m.gain_margin_db) {
-      const double gm = *m.gain_margin_db;
-      gainBracket->start->setCoords(w180, -gm);
-      gainBracket->end->setCoords(w180, 0.0);
-      gainBracket->setVisible(true);
-      const double side = crossFirst ? 1.0 : -1.0;
-      gainText->position->setCoords(6.0 * side, gm >= 0.0 ? -5.0 : 5.0);
-      gainText->setPositionAlignment((gm >= 0.0 ? Qt::AlignBottom : Qt::AlignTop) |
-                                     (crossFirst ? Qt::AlignLeft : Qt::AlignRight));
-      gainText->setText(QStringLiteral("gain margin %1").arg(format_margin_db(gm)));
-      gainText->setVisible(true);
-    }
+  if (m.phase_crossover_frequency_hz && m.gain_margin_db) {
+    const double w180 = *m.phase_crossover_frequency_hz, gm = *m.gain_margin_db;
+    gainBracket->start->setCoords(w180, -gm);
+    gainBracket->end->setCoords(w180, 0.0);
+    gainBracket->setVisible(true);
+    const double side = crossFirst ? 1.0 : -1.0;
+    gainText->position->setCoords(6.0 * side, gm >= 0.0 ? -5.0 : 5.0);
+    gainText->setPositionAlignment((gm >= 0.0 ? Qt::AlignBottom : Qt::AlignTop) |
+                                   (crossFirst ? Qt::AlignLeft : Qt::AlignRight));
+    gainText->setText(QStringLiteral("gain margin %1").arg(format_margin_db(gm)));
+    gainText->setVisible(true);
+  }
+  if (!report->margins_apply) {
+    notApplyText->setText(QStringLiteral("not stability margins here (see below)"));
+    notApplyText->setVisible(true);
   }
   styleMarginItems();
 }
@@ -586,9 +684,11 @@ void MarginsView::Impl::showFigures() {
     dominantLabelText->setText(QStringLiteral("none"));
     gainLabel->setText(format_margin_db(std::nullopt));
     phaseLabel->setText(format_margin_deg(std::nullopt));
+    modulusLabel->setText(format_modulus(std::nullopt));
     crossoverLabel->setText(format_frequency(std::nullopt));
     phaseCrossoverLabel->setText(format_frequency(std::nullopt));
     verdictLabel->setText(QStringLiteral("no analysis yet"));
+    explanationLabel->clear();
     styleVerdict();
     return;
   }
@@ -612,23 +712,39 @@ void MarginsView::Impl::showFigures() {
   dominantLabelText->setText(r.dominant ? QString::asprintf("%.4g Hz, damping ratio %.4f",
                                                             r.dominant->damped_frequency_hz, r.dominant->damping_ratio)
                                         : QStringLiteral("none"));
-  gainLabel->setText(format_margin_db(r.margins.gain_margin_db));
-  phaseLabel->setText(format_margin_deg(r.margins.phase_margin_deg));
-  crossoverLabel->setText(format_frequency(r.margins.crossover_frequency_hz));
-  phaseCrossoverLabel->setText(format_frequency(r.margins.phase_crossover_frequency_hz));
-  if (!r.model.loop_active)
-    verdictLabel->setText(QStringLiteral(
-        "loop inactive: the compensator spool rests on its stop (pump at full stroke); margins do not apply"));
-  else {
-    QString verdict =
-        r.stable ? QStringLiteral("stable") : QStringLiteral("UNSTABLE: an eigenvalue has a non-negative real part");
-    if (r.open_loop_unstable_poles > 0)
-      verdict += QStringLiteral(
-                     " (the opened loop has %1 unstable pole(s): read the margins by Nyquist; "
-                     "the eigenvalues decide)")
-                     .arg(r.open_loop_unstable_poles);
+  const QString suffix = r.model.loop_active && !r.margins_apply ? QStringLiteral(" (does not apply)") : QString();
+  auto with_suffix = [&](const QString& text, bool present) { return present ? text + suffix : text; };
+  gainLabel->setText(with_suffix(format_margin_db(r.margins.gain_margin_db), r.margins.gain_margin_db.has_value()));
+  phaseLabel->setText(
+      with_suffix(format_margin_deg(r.margins.phase_margin_deg), r.margins.phase_margin_deg.has_value()));
+  modulusLabel->setText(with_suffix(format_modulus(r.margins.modulus_margin), r.margins.modulus_margin.has_value()) +
+                        (r.margins.modulus_margin_frequency_hz
+                             ? QStringLiteral(" at %1").arg(format_frequency(r.margins.modulus_margin_frequency_hz))
+                             : QString()));
+  auto all_of = [](const auto& list, auto frequency) {
+    QStringList parts;
+    for (const auto& item : list) parts << format_frequency(frequency(item));
+    return parts.isEmpty() ? QStringLiteral("none") : parts.join(QStringLiteral(", "));
+  };
+  crossoverLabel->setText(all_of(r.margins.gain_crossovers, [](const GainCrossover& g) { return g.frequency_hz; }));
+  phaseCrossoverLabel->setText(
+      all_of(r.margins.phase_crossovers, [](const PhaseCrossover& c) { return c.frequency_hz; }));
+  if (!r.model.loop_active) {
+    verdictLabel->setText(QStringLiteral("loop inactive: the swashplate rests on its %1 stop; margins do not apply")
+                              .arg(QString::fromUtf8(stop_name(modes.swash, true))));
+  } else {
+    QString verdict = r.stable
+                          ? QStringLiteral("stable")
+                          : QStringLiteral("UNSTABLE: an eigenvalue has a non-negative real part (the pump hunts)");
+    verdict += QStringLiteral("; %1 unstable pole(s) of the opened loop, %2 of the closed loop")
+                   .arg(r.open_loop_unstable_poles)
+                   .arg(r.closed_loop_unstable_poles);
+    if (!r.margins_apply) verdict += QStringLiteral("; the margins do not apply");
     verdictLabel->setText(verdict);
   }
+  QStringList lines;
+  for (const std::string& line : r.explanation) lines << QString::fromStdString(line);
+  explanationLabel->setText(lines.join(QLatin1Char('\n')));
   styleVerdict();
 }
 
@@ -654,7 +770,12 @@ void MarginsView::setReport(const StabilityReport& report) {
 
 QString MarginsView::gainMarginText() const { return d->gainLabel->text(); }
 QString MarginsView::phaseMarginText() const { return d->phaseLabel->text(); }
+QString MarginsView::modulusMarginText() const { return d->modulusLabel->text(); }
 QString MarginsView::crossoverText() const { return d->crossoverLabel->text(); }
+QString MarginsView::explanationText() const { return d->explanationLabel->text(); }
+QColor MarginsView::gainMarginColour() const { return d->gainLabel->palette().color(QPalette::WindowText); }
+QColor MarginsView::goodColour() const { return for_background(QColor(kMarginColour), is_dark(palette())); }
+int MarginsView::crossingMarkCount() const { return d->crossingMarks; }
 QString MarginsView::dominantText() const { return d->dominantLabelText->text(); }
 QString MarginsView::verdictText() const { return d->verdictLabel->text(); }
 

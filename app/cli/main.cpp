@@ -172,21 +172,30 @@ void print_stability(const StabilityReport& r, UnitSystem units) {
                 r.dominant->damping_ratio);
   else
     std::printf("Dominant oscillation: none (no oscillatory mode)\n");
-  if (!r.model.loop_active) {
-    std::printf("Loop: inactive, the compensator spool rests on its stop (margins do not apply)\n");
-  } else {
-    std::printf("Loop opened at the sensing area: gain margin %s dB at %s Hz, phase margin %s deg at %s Hz\n",
-                optional_text(r.margins.gain_margin_db, "%.2f").c_str(),
-                optional_text(r.margins.phase_crossover_frequency_hz, "%.4g").c_str(),
-                optional_text(r.margins.phase_margin_deg, "%.1f").c_str(),
-                optional_text(r.margins.crossover_frequency_hz, "%.4g").c_str());
-    if (r.open_loop_unstable_poles > 0)
-      std::printf(
-          "  note: the opened loop has %d unstable pole(s) (the spool's flow forces still feel p_d, for\n"
-          "  instance); read the margins by the Nyquist criterion: the eigenvalues decide stability\n",
-          r.open_loop_unstable_poles);
+  const LoopMargins& m = r.margins;
+  if (r.model.loop_active) {
+    std::printf("Displacement loop, opened at the swash angle in the pump flow%s:\n",
+                r.margins_apply ? "" : " (the margins do NOT apply here, see below)");
+    std::printf(
+        "  gain margin %s dB at %s Hz, phase margin %s deg at %s Hz, modulus margin %s at %s Hz\n",
+        optional_text(m.gain_margin_db, "%.2f").c_str(), optional_text(m.phase_crossover_frequency_hz, "%.4g").c_str(),
+        optional_text(m.phase_margin_deg, "%.1f").c_str(), optional_text(m.crossover_frequency_hz, "%.4g").c_str(),
+        optional_text(m.modulus_margin, "%.3f").c_str(), optional_text(m.modulus_margin_frequency_hz, "%.4g").c_str());
+    std::printf("  gain crossovers (|L| = 1):");
+    if (m.gain_crossovers.empty()) std::printf(" none");
+    for (const GainCrossover& g : m.gain_crossovers)
+      std::printf(" %.4g Hz (phase margin %.1f deg);", g.frequency_hz, g.phase_margin_deg);
+    std::printf("\n  phase crossovers (L on the negative real axis):");
+    if (m.phase_crossovers.empty()) std::printf(" none");
+    for (const PhaseCrossover& c : m.phase_crossovers)
+      std::printf(" %.4g Hz (gain margin %.2f dB);", c.frequency_hz, c.gain_margin_db);
+    std::printf("\n");
   }
+  std::printf("Unstable poles: %d of the opened loop, %d of the closed loop\n", r.open_loop_unstable_poles,
+              r.closed_loop_unstable_poles);
   std::printf("Stable: %s\n", r.stable ? "yes" : "NO (an eigenvalue has a non-negative real part)");
+  std::printf("In plain words:\n");
+  for (const std::string& line : r.explanation) std::printf("  - %s\n", line.c_str());
 }
 
 int stability_command(const std::string& scenario_path, const std::optional<double>& opening, bool json,
@@ -205,13 +214,17 @@ int stability_command(const std::string& scenario_path, const std::optional<doub
       std::cout << stability_map_json(map);
       return exit_ok;
     }
-    std::printf("%-28s %-28s %7s %10s %10s %10s %10s\n", std::string(x.spec->key).c_str(),
-                std::string(y.spec->key).c_str(), "stable", "GM [dB]", "PM [deg]", "f_d [Hz]", "damping");
+    std::printf("%-28s %-28s %7s %8s %10s %10s %8s %10s %10s\n", std::string(x.spec->key).c_str(),
+                std::string(y.spec->key).c_str(), "stable", "applies", "GM [dB]", "PM [deg]", "modulus", "f_d [Hz]",
+                "damping");
     for (const MapPoint& m : map.points)
-      std::printf("%-28.6g %-28.6g %7s %10s %10s %10s %10s\n", m.x, m.y, m.solved ? (m.stable ? "yes" : "NO") : "?",
+      std::printf("%-28.6g %-28.6g %7s %8s %10s %10s %8s %10s %10s\n", m.x, m.y,
+                  m.solved ? (m.stable ? "yes" : "NO") : "?", m.margins_apply ? "yes" : "no",
                   optional_text(m.gain_margin_db, "%.2f").c_str(), optional_text(m.phase_margin_deg, "%.1f").c_str(),
+                  optional_text(m.modulus_margin, "%.3f").c_str(),
                   optional_text(m.dominant_frequency_hz, "%.4g").c_str(),
                   optional_text(m.dominant_damping_ratio, "%.4f").c_str());
+    std::printf("(margins that do not apply are not stability margins: see stability without --map)\n");
     std::printf("%s\n", safety_notice_short);
     return exit_ok;
   }

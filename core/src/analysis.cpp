@@ -5,6 +5,9 @@
 #include <algorithm>
 #include <array>
 #include <cmath>
+#include <cstdarg>
+#include <cstdio>
+#include <functional>
 #include <limits>
 
 #include "swashtune/units.hpp"
@@ -270,24 +273,34 @@ OperatingPoint steady_state(const ModelParameters& p, const RunSettings& setting
 
 // ---- linearisation ----------------------------------------------------------
 
+namespace {
+
+// Coordinates a stop holds do not respond to small disturbances.
+bool held_by_stop(int index, const StopModes& modes) {
+  if (modes.swash != Stop::free && (index == state::swash_angle || index == state::swash_velocity)) return true;
+  if (modes.spool != Stop::free && (index == state::spool_position || index == state::spool_velocity)) return true;
+  return false;
+}
+
+}  // namespace
+
 LinearModel linearise(const ModelParameters& p, const InitialCondition& at) {
-  LinearModel m;
   // A pump with flow ripple is linearised about its mean flow.
   const ModelParameters q = mean_flow_model(p);
   const Derived d(q);
   const State x = at.x.head(d.layout.size);
-  m.states = {state::discharge_pressure, state::control_pressure};
-  if (at.modes.swash == Stop::free) {
-    m.states.push_back(state::swash_angle);
-    m.states.push_back(state::swash_velocity);
-  }
-  if (at.modes.spool == Stop::free) {
-    m.states.push_back(state::spool_position);
-    m.states.push_back(state::spool_velocity);
-  }
-  for (int i = state::core_size; i < d.layout.size; ++i) m.states.push_back(i);
+  const int size = static_cast<int>(x.size());
+  LinearModel m;
+  for (int i = 0; i < size; ++i)
+    if (!held_by_stop(i, at.modes)) m.states.push_back(i);
   const int n = static_cast<int>(m.states.size());
-  const Jacobian j = jacobian(q, d, at.modes, x);
+
+  // The model's own rates, differentiated with the tangent law's angle u held
+  // (A) and with respect to u alone (B), at u = a.
+  const double u = x[state::swash_angle];
+  const Jacobian j = jacobian(q, d, at.modes, x, &u);
+  const State du = flow_angle_sensitivity(q, d, at.modes, x, u);
+
   const State scale = state_scale(q);
   m.a.resize(n, n);
   m.b = Eigen::VectorXd::Zero(n);
@@ -296,16 +309,15 @@ LinearModel linearise(const ModelParameters& p, const InitialCondition& at) {
   for (int r = 0; r < n; ++r) {
     m.scale[r] = scale[m.states[r]];
     for (int c = 0; c < n; ++c) m.a(r, c) = j(m.states[r], m.states[c]);
+    m.b[r] = du[m.states[r]];
   }
-  m.c[0] = 1.0;  // y = p_d
-  m.loop_active = at.modes.spool == Stop::free;
+  // The swashplate on a stop cannot follow the compensator: nothing to open.
+  m.loop_active = at.modes.swash == Stop::free;
   if (m.loop_active) {
-    // u acts on the sensing area in place of p_d: split A_s/m_s off the
-    // closed-loop Jacobian's p_d column into B C.
-    const int v =
-        static_cast<int>(std::find(m.states.begin(), m.states.end(), state::spool_velocity) - m.states.begin());
-    m.b[v] = d.sensing_area / p.spool_mass;
-    m.a(v, 0) -= m.b[v];
+    const auto angle = std::find(m.states.begin(), m.states.end(), static_cast<int>(state::swash_angle));
+    m.c[static_cast<int>(angle - m.states.begin())] = 1.0;  // y = a
+  } else {
+    m.b.setZero();  // the flow is fixed by the stop; A is then the whole linear model
   }
   return m;
 }
@@ -326,6 +338,8 @@ std::complex<double> LinearModel::open_loop_response(double omega) const {
   for (int r = 0; r < n; ++r) g += c[r] * scale[r] * x[r];
   return g;
 }
+
+std::complex<double> LinearModel::loop_transfer(double hz) const { return -open_loop_response(two_pi * hz); }
 
 Mode mode_of(std::complex<double> eigenvalue) {
   Mode m;
@@ -354,17 +368,20 @@ std::vector<Mode> modes_of(const Eigen::MatrixXd& a, const Eigen::VectorXd& scal
   return modes;
 }
 
+int unstable_count(const std::vector<Mode>& modes) {
+  return static_cast<int>(
+      std::count_if(modes.begin(), modes.end(), [](const Mode& m) { return m.eigenvalue.real() >= 0.0; }));
+}
+
 // ---- margins ----------------------------------------------------------------
 
 namespace {
-
-std::complex<double> loop_at(const LinearModel& m, double hz) { return -m.open_loop_response(two_pi * hz); }
 
 double degrees(double radians) { return radians * 180.0 / pi; }
 
 // Phase of L at hz, unwrapped to lie within 180 deg of a reference.
 double phase_near(const LinearModel& m, double hz, double reference_deg) {
-  double ph = degrees(std::arg(loop_at(m, hz)));
+  double ph = degrees(std::arg(m.loop_transfer(hz)));
   while (ph - reference_deg > 180.0) ph -= 360.0;
   while (ph - reference_deg < -180.0) ph += 360.0;
   return ph;
@@ -373,18 +390,58 @@ double phase_near(const LinearModel& m, double hz, double reference_deg) {
 // Bisection in log frequency on a sign change of g between lo and hi.
 template <class F>
 double refine(double lo, double hi, F g) {
-  double g_lo = g(lo);
-  for (int i = 0; i < 100 && hi / lo > 1.0 + 1e-12; ++i) {
+  const bool low_negative = g(lo) < 0.0;
+  for (int i = 0; i < 100 && hi / lo > 1.0 + 1e-13; ++i) {
     const double mid = std::sqrt(lo * hi);
-    const double g_mid = g(mid);
-    if ((g_mid < 0.0) == (g_lo < 0.0)) {
-      lo = mid;
-      g_lo = g_mid;
-    } else {
-      hi = mid;
-    }
+    ((g(mid) < 0.0) == low_negative ? lo : hi) = mid;
   }
   return std::sqrt(lo * hi);
+}
+
+struct LoopSample {
+  double hz;
+  std::complex<double> l;
+};
+
+// Between two samples L may turn quickly (a lightly damped resonance):
+// bisect until it turns by at most 20 deg and changes size by at most 40 %,
+// so that no crossing or close pass of -1 falls between neighbours.
+void refine_between(const LinearModel& m, const LoopSample& a, const LoopSample& b, std::vector<LoopSample>& out,
+                    int depth) {
+  constexpr double max_turn = 20.0 * pi / 180.0;
+  const double max_ratio = std::log(1.4);
+  if (depth >= 24 || a.l == 0.0 || b.l == 0.0 || !std::isfinite(std::abs(a.l)) || !std::isfinite(std::abs(b.l))) return;
+  const double turn = std::abs(std::arg(b.l / a.l));
+  const double ratio = std::abs(std::log(std::abs(b.l) / std::abs(a.l)));
+  if (turn <= max_turn && ratio <= max_ratio) return;
+  const double hz = std::sqrt(a.hz * b.hz);
+  const LoopSample mid{hz, m.loop_transfer(hz)};
+  refine_between(m, a, mid, out, depth + 1);
+  out.push_back(mid);
+  refine_between(m, mid, b, out, depth + 1);
+}
+
+std::vector<LoopSample> loop_samples(const LinearModel& m, double from_hz, double to_hz) {
+  const int per_decade = 200;
+  const int count = std::max(1, static_cast<int>(std::ceil(per_decade * std::log10(to_hz / from_hz))));
+  std::vector<LoopSample> out;
+  LoopSample previous{from_hz, m.loop_transfer(from_hz)};
+  out.push_back(previous);
+  for (int i = 1; i <= count; ++i) {
+    const double hz = from_hz * std::pow(to_hz / from_hz, static_cast<double>(i) / count);
+    const LoopSample next{hz, m.loop_transfer(hz)};
+    refine_between(m, previous, next, out, 0);
+    out.push_back(next);
+    previous = next;
+  }
+  return out;
+}
+
+// 180 deg + phase of L, wrapped into (-180, 180].
+double phase_margin_of(std::complex<double> l) {
+  double pm = 180.0 + degrees(std::arg(l));
+  if (pm > 180.0) pm -= 360.0;
+  return pm;
 }
 
 }  // namespace
@@ -395,7 +452,7 @@ std::vector<BodePoint> loop_bode(const LinearModel& m, double from_hz, double to
   double previous_phase = 0.0;
   for (int i = 0; i < points; ++i) {
     const double hz = from_hz * std::pow(to_hz / from_hz, static_cast<double>(i) / (points - 1));
-    const std::complex<double> l = loop_at(m, hz);
+    const std::complex<double> l = m.loop_transfer(hz);
     const double phase = i == 0 ? degrees(std::arg(l)) : phase_near(m, hz, previous_phase);
     previous_phase = phase;
     out.push_back(BodePoint{hz, 20.0 * std::log10(std::abs(l)), phase});
@@ -406,28 +463,260 @@ std::vector<BodePoint> loop_bode(const LinearModel& m, double from_hz, double to
 LoopMargins loop_margins(const LinearModel& m) {
   LoopMargins margins;
   if (!m.loop_active) return margins;
-  // 200 points a decade keeps the phase change between neighbours well
-  // below 180 deg even for lightly damped resonances.
-  const int decades = static_cast<int>(std::ceil(std::log10(margin_search_high_hz / margin_search_low_hz)));
-  const std::vector<BodePoint> bode = loop_bode(m, margin_search_low_hz, margin_search_high_hz, 200 * decades + 1);
-  for (std::size_t i = 0; i + 1 < bode.size(); ++i) {
-    const BodePoint& a = bode[i];
-    const BodePoint& b = bode[i + 1];
-    if (!margins.crossover_frequency_hz && a.magnitude_db >= 0.0 && b.magnitude_db < 0.0) {
-      const double hz = refine(a.frequency_hz, b.frequency_hz, [&](double f) { return std::abs(loop_at(m, f)) - 1.0; });
-      margins.crossover_frequency_hz = hz;
-      margins.phase_margin_deg = 180.0 + phase_near(m, hz, a.phase_deg);
+  const std::vector<LoopSample> samples = loop_samples(m, margin_search_low_hz, margin_search_high_hz);
+  const auto log_magnitude = [&](double hz) { return std::log(std::abs(m.loop_transfer(hz))); };
+  const auto imaginary = [&](double hz) { return m.loop_transfer(hz).imag(); };
+  std::size_t closest = 0;
+  for (std::size_t i = 0; i < samples.size(); ++i) {
+    if (std::abs(1.0 + samples[i].l) < std::abs(1.0 + samples[closest].l)) closest = i;
+    if (i + 1 == samples.size()) break;
+    const LoopSample& a = samples[i];
+    const LoopSample& b = samples[i + 1];
+    if ((std::abs(a.l) < 1.0) != (std::abs(b.l) < 1.0)) {
+      const double hz = refine(a.hz, b.hz, log_magnitude);
+      margins.gain_crossovers.push_back(GainCrossover{hz, phase_margin_of(m.loop_transfer(hz))});
     }
-    if (!margins.phase_crossover_frequency_hz && (a.phase_deg + 180.0) * (b.phase_deg + 180.0) <= 0.0 &&
-        a.phase_deg != b.phase_deg) {
-      const double reference = a.phase_deg;
-      const double hz =
-          refine(a.frequency_hz, b.frequency_hz, [&](double f) { return phase_near(m, f, reference) + 180.0; });
-      margins.phase_crossover_frequency_hz = hz;
-      margins.gain_margin_db = -20.0 * std::log10(std::abs(loop_at(m, hz)));
+    // A sign change of Im L with at most 20 deg of turn between neighbours
+    // is one crossing of the real axis; the negative half is a phase crossover.
+    if ((a.l.imag() < 0.0) != (b.l.imag() < 0.0) && (a.l.real() < 0.0 || b.l.real() < 0.0)) {
+      const double hz = refine(a.hz, b.hz, imaginary);
+      const std::complex<double> l = m.loop_transfer(hz);
+      if (l.real() < 0.0) margins.phase_crossovers.push_back(PhaseCrossover{hz, -20.0 * std::log10(std::abs(l))});
     }
   }
+  for (const GainCrossover& g : margins.gain_crossovers)
+    if (!margins.phase_margin_deg || g.phase_margin_deg < *margins.phase_margin_deg) {
+      margins.phase_margin_deg = g.phase_margin_deg;
+      margins.crossover_frequency_hz = g.frequency_hz;
+    }
+  for (const PhaseCrossover& c : margins.phase_crossovers)
+    if (!margins.gain_margin_db || c.gain_margin_db < *margins.gain_margin_db) {
+      margins.gain_margin_db = c.gain_margin_db;
+      margins.phase_crossover_frequency_hz = c.frequency_hz;
+    }
+
+  // Modulus margin: golden-section search in log frequency between the
+  // neighbours of the closest sample (the refined grid keeps |1 + L| single-
+  // troughed between them).
+  if (!samples.empty() && std::isfinite(std::abs(samples[closest].l))) {
+    double lo = std::log(samples[closest > 0 ? closest - 1 : 0].hz);
+    double hi = std::log(samples[std::min(closest + 1, samples.size() - 1)].hz);
+    const auto distance = [&](double log_hz) { return std::abs(1.0 + m.loop_transfer(std::exp(log_hz))); };
+    const double ratio = 0.5 * (std::sqrt(5.0) - 1.0);
+    double x1 = hi - ratio * (hi - lo), x2 = lo + ratio * (hi - lo);
+    double f1 = distance(x1), f2 = distance(x2);
+    for (int i = 0; i < 200 && hi - lo > 1e-14; ++i) {
+      if (f1 < f2) {
+        hi = x2;
+        x2 = x1;
+        f2 = f1;
+        x1 = hi - ratio * (hi - lo);
+        f1 = distance(x1);
+      } else {
+        lo = x1;
+        x1 = x2;
+        f1 = f2;
+        x2 = lo + ratio * (hi - lo);
+        f2 = distance(x2);
+      }
+    }
+    double best_hz = std::exp(0.5 * (lo + hi));
+    double best = distance(0.5 * (lo + hi));
+    if (std::abs(1.0 + samples[closest].l) < best) {  // an end of the band
+      best_hz = samples[closest].hz;
+      best = std::abs(1.0 + samples[closest].l);
+    }
+    margins.modulus_margin = best;
+    margins.modulus_margin_frequency_hz = best_hz;
+  }
   return margins;
+}
+
+std::optional<int> nyquist_encirclements(const LinearModel& m) {
+  if (!m.loop_active) return 0;  // L = 0: nothing encircles anything
+  // Frequencies well below and above every pole of the open and closed loop.
+  double low = std::numeric_limits<double>::infinity(), high = 0.0;
+  for (const Eigen::MatrixXd& matrix : {m.a, m.closed_loop()})
+    for (const Mode& mode : modes_of(matrix, m.scale)) {
+      const double size = std::abs(mode.eigenvalue);
+      if (size == 0.0) return std::nullopt;  // a pole at s = 0: the contour would need an indentation
+      low = std::min(low, size);
+      high = std::max(high, size);
+    }
+  // 1 + L(jw) at w = 0, then on a grid from far below to far above every
+  // pole, refined wherever it turns by more than 20 deg.
+  const auto value = [&](double omega) { return 1.0 + (-m.open_loop_response(omega)); };
+  std::vector<std::complex<double>> z{value(0.0)};
+  const double w_low = 1e-4 * low;
+  double w_high = 1e4 * high;
+  for (int extend = 0; extend < 6 && std::abs(value(w_high) - 1.0) > 1e-3; ++extend) w_high *= 10.0;
+  if (std::abs(value(w_high) - 1.0) > 1e-2) return std::nullopt;
+  const int count = static_cast<int>(std::ceil(100.0 * std::log10(w_high / w_low)));
+  std::function<void(double, std::complex<double>, double, std::complex<double>, int)> between =
+      [&](double wa, std::complex<double> za, double wb, std::complex<double> zb, int depth) {
+        if (depth >= 30 || std::abs(std::arg(zb / za)) <= 20.0 * pi / 180.0) return;
+        const double wm = std::sqrt(wa * wb);
+        const std::complex<double> zm = value(wm);
+        between(wa, za, wm, zm, depth + 1);
+        z.push_back(zm);
+        between(wm, zm, wb, zb, depth + 1);
+      };
+  double w_prev = w_low;
+  std::complex<double> z_prev = value(w_low);
+  z.push_back(z_prev);
+  for (int i = 1; i <= count; ++i) {
+    const double w = w_low * std::pow(w_high / w_low, static_cast<double>(i) / count);
+    const std::complex<double> zi = value(w);
+    between(w_prev, z_prev, w, zi, 0);
+    z.push_back(zi);
+    w_prev = w;
+    z_prev = zi;
+  }
+  double nearest = std::abs(z.front());
+  double turn = 0.0;  // over w from 0 up; the negative half mirrors it (L(-jw) = conj L(jw))
+  for (std::size_t i = 1; i < z.size(); ++i) {
+    nearest = std::min(nearest, std::abs(z[i]));
+    turn += std::arg(z[i] / z[i - 1]);
+  }
+  if (!(nearest > 1e-9) || !std::isfinite(turn)) return std::nullopt;
+  // Whole contour: up the imaginary axis, then the large arc (L ~ 0 there).
+  const double total = 2.0 * turn + std::arg(std::conj(z.back()) / z.back());
+  const double windings = total / (2.0 * pi);  // counter-clockwise
+  const double whole = std::round(windings);
+  if (std::abs(windings - whole) > 0.05) return std::nullopt;
+  return -static_cast<int>(whole);  // clockwise
+}
+
+std::vector<std::string> dry_friction_sources(const ModelParameters& p) {
+  const Derived d(p);
+  std::vector<std::string> sources;
+  char text[96];
+  if (d.coulomb_friction > 0.0 || d.breakaway_friction > 0.0) {
+    std::snprintf(text, sizeof text, "faults.spool_friction = %.3g N", p.fault_spool_friction);
+    sources.push_back(text);
+  }
+  if (d.swash_friction > 0.0) {
+    std::snprintf(text, sizeof text, "pump.swash_friction = %.3g N*m", p.swash_friction);
+    sources.push_back(text);
+  }
+  return sources;
+}
+
+bool has_dry_friction(const ModelParameters& p) { return !dry_friction_sources(p).empty(); }
+
+namespace {
+
+std::string format(const char* pattern, ...) __attribute__((format(printf, 1, 2)));
+std::string format(const char* pattern, ...) {
+  char buffer[512];
+  va_list args;
+  va_start(args, pattern);
+  std::vsnprintf(buffer, sizeof buffer, pattern, args);
+  va_end(args);
+  return buffer;
+}
+
+// Why the margins are not stability margins, in plain words; empty when they are.
+std::string margins_note(const ModelParameters& p, const StabilityReport& r) {
+  std::vector<std::string> reasons;
+  const StopModes& modes = r.operating_point.condition.modes;
+  if (!r.operating_point.converged)
+    reasons.push_back(
+        "No steady operating point was found at this opening (the pump may hunt); the model is linearised where "
+        "a run towards rest stopped, so neither the modes nor the margins describe a firm operating point.");
+  if (!r.model.loop_active)
+    reasons.push_back(format(
+        "The swashplate rests on its %s stop, so the compensator is not regulating the displacement: the loop is "
+        "inactive and no margin applies.",
+        stop_name(modes.swash, true)));
+  else if (r.open_loop_unstable_poles > 0)
+    reasons.push_back(format(
+        "With the pump's flow held fixed, the compensator spool and the line are unstable by themselves (%d "
+        "unstable pole%s of the opened loop): an inner loop hunts on its own, so these margins are not stability "
+        "margins. The eigenvalues decide.",
+        r.open_loop_unstable_poles, r.open_loop_unstable_poles == 1 ? "" : "s"));
+  if (r.dry_friction) {
+    std::string which;
+    for (const std::string& source : dry_friction_sources(p)) which += (which.empty() ? "" : ", ") + source;
+    reasons.push_back(format(
+        "The loop has dry friction (%s): a linear model cannot describe stick-slip. Linearised at rest the friction "
+        "acts as a stiff damper, so the modes and margins describe only tiny motions; judge the loop by the "
+        "oscillation analysis of a run (each event's oscillation in swashtune-cli run, or the Troubleshooting tab).",
+        which.c_str()));
+  }
+  std::string note;
+  for (const std::string& reason : reasons) note += (note.empty() ? "" : " ") + reason;
+  return note;
+}
+
+}  // namespace
+
+std::vector<std::string> explain_stability(const StabilityReport& r) {
+  std::vector<std::string> lines;
+  // The verdict comes from the eigenvalues, never from the margins.
+  if (r.stable) {
+    std::string line = "Stable: every mode of the linearised loop dies away.";
+    if (r.dominant)
+      line += format(" The least damped oscillates at %.4g Hz with damping ratio %.3f.",
+                     r.dominant->damped_frequency_hz, r.dominant->damping_ratio);
+    lines.push_back(line);
+  } else if (!r.modes.empty()) {
+    const Mode& worst = r.modes.front();  // largest real part first
+    lines.push_back(worst.oscillatory()
+                        ? format("UNSTABLE: an oscillation at %.4g Hz grows (damping ratio %.3f): the pump hunts.",
+                                 worst.damped_frequency_hz, worst.damping_ratio)
+                        : format("UNSTABLE: a mode grows without oscillating (%.3g 1/s): the operating point "
+                                 "cannot be held.",
+                                 worst.eigenvalue.real()));
+  }
+  if (!r.note.empty()) lines.push_back(r.note);
+  if (!r.model.loop_active) return lines;
+  const LoopMargins& m = r.margins;
+  if (!r.margins_apply && (m.gain_margin_db || m.phase_margin_deg))
+    lines.push_back("The margins are listed for reference only: here they are not stability margins.");
+  if (!r.margins_apply) return lines;
+
+  if (m.gain_margin_db) {
+    const double gm = *m.gain_margin_db, factor = std::pow(10.0, std::abs(gm) / 20.0);
+    const double hz = *m.phase_crossover_frequency_hz;
+    if (gm >= 0.0)
+      lines.push_back(
+          format("The loop can take %.2g times more gain (%.1f dB) before it hunts, at %.4g Hz.", factor, gm, hz));
+    else if (!r.stable)
+      lines.push_back(
+          format("The loop gain is %.2g times (%.1f dB) too high at %.4g Hz: it hunts; the gain would have "
+                 "to fall at least that much before it could be stable.",
+                 factor, -gm, hz));
+    else
+      lines.push_back(
+          format("The loop is stable only conditionally: a loop gain %.2g times (%.1f dB) lower, at "
+                 "%.4g Hz, would make it hunt.",
+                 factor, -gm, hz));
+  } else {
+    lines.push_back(
+        "The phase of the loop never reaches -180 deg between 0.1 Hz and 100 kHz: no gain margin to "
+        "quote (more gain alone does not make it hunt).");
+  }
+  if (m.phase_margin_deg) {
+    const double pm = *m.phase_margin_deg, hz = *m.crossover_frequency_hz;
+    if (pm >= 0.0)
+      lines.push_back(
+          format("It can take %.1f deg more phase lag at %.4g Hz before it hunts: an extra delay of "
+                 "%.3g ms in the loop would be enough.",
+                 pm, hz, pm / (360.0 * hz) * 1e3));
+    else
+      lines.push_back(format("It is %.1f deg short of phase at %.4g Hz, where the loop gain is 1.", -pm, hz));
+  } else {
+    const bool below = std::abs(r.model.loop_transfer(margin_search_low_hz)) < 1.0;
+    lines.push_back(below ? "The loop gain stays below 1 between 0.1 Hz and 100 kHz: no phase margin to quote."
+                          : "The loop gain stays above 1 between 0.1 Hz and 100 kHz: no phase margin to quote.");
+  }
+  if (m.modulus_margin)
+    lines.push_back(
+        format("At its closest, near %.4g Hz, the loop passes within %.2f of the critical point -1: "
+               "disturbances near that frequency are amplified up to %.2g times (0.5 or more is usual).",
+               *m.modulus_margin_frequency_hz, *m.modulus_margin, 1.0 / *m.modulus_margin));
+  return lines;
 }
 
 StabilityReport analyse_stability(const ModelParameters& p, const RunSettings& settings,
@@ -440,12 +729,15 @@ StabilityReport analyse_stability(const ModelParameters& p, const RunSettings& s
   for (const Mode& mode : report.modes)
     if (mode.oscillatory() && (!report.dominant || mode.damping_ratio < report.dominant->damping_ratio))
       report.dominant = mode;
+  report.closed_loop_unstable_poles = unstable_count(report.modes);
+  report.open_loop_unstable_poles = unstable_count(modes_of(report.model.a, report.model.scale));
+  report.stable = report.closed_loop_unstable_poles == 0;
   report.margins = loop_margins(report.model);
-  if (report.model.loop_active)
-    for (const Mode& mode : modes_of(report.model.a, report.model.scale))
-      if (mode.eigenvalue.real() >= 0.0) ++report.open_loop_unstable_poles;
-  report.stable = std::all_of(report.modes.begin(), report.modes.end(),
-                              [](const Mode& mode) { return mode.eigenvalue.real() < 0.0; });
+  report.dry_friction = has_dry_friction(p);
+  report.margins_apply = report.model.loop_active && report.open_loop_unstable_poles == 0 && !report.dry_friction &&
+                         report.operating_point.converged;
+  report.note = margins_note(p, report);
+  report.explanation = explain_stability(report);
   return report;
 }
 
@@ -543,6 +835,8 @@ StabilityMap stability_map(const ModelParameters& p, const RunSettings& settings
         point.gain_margin_db = r.margins.gain_margin_db;
         point.phase_margin_deg = r.margins.phase_margin_deg;
         point.crossover_frequency_hz = r.margins.crossover_frequency_hz;
+        point.modulus_margin = r.margins.modulus_margin;
+        point.margins_apply = r.margins_apply;
         if (r.dominant) {
           point.dominant_frequency_hz = r.dominant->damped_frequency_hz;
           point.dominant_damping_ratio = r.dominant->damping_ratio;

@@ -70,13 +70,15 @@ namespace {
 // compiler unroll the derivative arithmetic, which dominates the cost of a
 // step, so the common layout sizes get their own instance.
 template <int N>
-Jacobian jacobian_of_size(const ModelParameters& p, const Derived& d, const StopModes& modes, const State& x) {
+Jacobian jacobian_of_size(const ModelParameters& p, const Derived& d, const StopModes& modes, const State& x,
+                          const double* pump_flow_angle) {
   using Derivatives = Eigen::Matrix<double, N, 1, 0, (N == Eigen::Dynamic ? max_states : N), 1>;
   using Dual = Eigen::AutoDiffScalar<Derivatives>;
   const int n = static_cast<int>(x.size());
   StateOf<Dual> xd(n);
   for (int i = 0; i < n; ++i) xd[i] = Dual(x[i], n, i);
-  const StateOf<Dual> f = derivatives<Dual>(p, d, modes, xd);
+  const Dual angle(pump_flow_angle ? *pump_flow_angle : 0.0, Derivatives::Zero(n));  // a constant
+  const StateOf<Dual> f = derivatives<Dual>(p, d, modes, xd, pump_flow_angle ? &angle : nullptr);
   Jacobian jac(n, n);
   for (int i = 0; i < n; ++i) {
     // A rate that does not depend on the state (a constant) carries no derivatives.
@@ -90,23 +92,38 @@ Jacobian jacobian_of_size(const ModelParameters& p, const Derived& d, const Stop
 
 }  // namespace
 
-Jacobian jacobian(const ModelParameters& p, const Derived& d, const StopModes& modes, const State& x) {
+Jacobian jacobian(const ModelParameters& p, const Derived& d, const StopModes& modes, const State& x,
+                  const double* pump_flow_angle) {
   switch (x.size()) {
     case 6:
-      return jacobian_of_size<6>(p, d, modes, x);
+      return jacobian_of_size<6>(p, d, modes, x, pump_flow_angle);
     case 7:
-      return jacobian_of_size<7>(p, d, modes, x);
+      return jacobian_of_size<7>(p, d, modes, x, pump_flow_angle);
     case 8:
-      return jacobian_of_size<8>(p, d, modes, x);
+      return jacobian_of_size<8>(p, d, modes, x, pump_flow_angle);
     case 9:
-      return jacobian_of_size<9>(p, d, modes, x);
+      return jacobian_of_size<9>(p, d, modes, x, pump_flow_angle);
     case 10:
-      return jacobian_of_size<10>(p, d, modes, x);
+      return jacobian_of_size<10>(p, d, modes, x, pump_flow_angle);
     case 11:
-      return jacobian_of_size<11>(p, d, modes, x);
+      return jacobian_of_size<11>(p, d, modes, x, pump_flow_angle);
     default:
-      return jacobian_of_size<Eigen::Dynamic>(p, d, modes, x);
+      return jacobian_of_size<Eigen::Dynamic>(p, d, modes, x, pump_flow_angle);
   }
+}
+
+State flow_angle_sensitivity(const ModelParameters& p, const Derived& d, const StopModes& modes, const State& x,
+                             double u) {
+  using Dual = Eigen::AutoDiffScalar<Eigen::Matrix<double, 1, 1>>;
+  const Eigen::Matrix<double, 1, 1> none = Eigen::Matrix<double, 1, 1>::Zero();
+  const int n = static_cast<int>(x.size());
+  StateOf<Dual> xd(n);
+  for (int i = 0; i < n; ++i) xd[i] = Dual(x[i], none);
+  const Dual angle(u, Eigen::Matrix<double, 1, 1>::Ones());
+  const StateOf<Dual> f = derivatives<Dual>(p, d, modes, xd, &angle);
+  State out(n);
+  for (int i = 0; i < n; ++i) out[i] = f[i].derivatives()[0];
+  return out;
 }
 
 }  // namespace swashtune

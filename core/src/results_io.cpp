@@ -173,10 +173,11 @@ namespace {
 
 std::string json_optional(const std::optional<double>& v) { return v ? json_number(*v) : "null"; }
 
-const char* state_name(int index) {
+std::string state_name(int index) {
   static const char* names[] = {"discharge_pressure", "control_pressure", "swash_angle",
                                 "swash_velocity",     "spool_position",   "spool_velocity"};
-  return names[index];
+  constexpr int named = static_cast<int>(sizeof names / sizeof names[0]);
+  return index >= 0 && index < named ? names[index] : "state_" + std::to_string(index);
 }
 
 std::string json_mode(const Mode& m) {
@@ -217,12 +218,32 @@ std::string stability_json(const StabilityReport& r) {
       << ", \"natural_frequency_Hz\": " << json_number(r.dominant->natural_frequency_hz) << " },\n";
   else
     o << "  \"dominant\": null,\n";
-  o << "  \"loop\": { \"active\": " << (r.model.loop_active ? "true" : "false")
-    << ", \"gain_margin_dB\": " << json_optional(r.margins.gain_margin_db)
-    << ", \"phase_margin_deg\": " << json_optional(r.margins.phase_margin_deg)
-    << ", \"crossover_frequency_Hz\": " << json_optional(r.margins.crossover_frequency_hz)
-    << ", \"phase_crossover_frequency_Hz\": " << json_optional(r.margins.phase_crossover_frequency_hz)
-    << ", \"open_loop_unstable_poles\": " << r.open_loop_unstable_poles << " },\n";
+  const LoopMargins& lm = r.margins;
+  o << "  \"loop\": {\n";
+  o << "    \"break\": \"swash angle in the pump flow\",\n";
+  o << "    \"gain_margin_dB\": " << json_optional(lm.gain_margin_db) << ",\n";
+  o << "    \"phase_margin_deg\": " << json_optional(lm.phase_margin_deg) << ",\n";
+  o << "    \"crossover_frequency_Hz\": " << json_optional(lm.crossover_frequency_hz) << ",\n";
+  o << "    \"phase_crossover_frequency_Hz\": " << json_optional(lm.phase_crossover_frequency_hz) << ",\n";
+  o << "    \"modulus_margin\": " << json_optional(lm.modulus_margin) << ",\n";
+  o << "    \"modulus_margin_frequency_Hz\": " << json_optional(lm.modulus_margin_frequency_hz) << ",\n";
+  o << "    \"gain_crossovers\": [";
+  for (std::size_t i = 0; i < lm.gain_crossovers.size(); ++i)
+    o << (i ? ", " : "") << "{ \"frequency_Hz\": " << json_number(lm.gain_crossovers[i].frequency_hz)
+      << ", \"phase_margin_deg\": " << json_number(lm.gain_crossovers[i].phase_margin_deg) << " }";
+  o << "],\n    \"phase_crossovers\": [";
+  for (std::size_t i = 0; i < lm.phase_crossovers.size(); ++i)
+    o << (i ? ", " : "") << "{ \"frequency_Hz\": " << json_number(lm.phase_crossovers[i].frequency_hz)
+      << ", \"gain_margin_dB\": " << json_number(lm.phase_crossovers[i].gain_margin_db) << " }";
+  o << "],\n";
+  o << "    \"open_loop_unstable_poles\": " << r.open_loop_unstable_poles << ",\n";
+  o << "    \"closed_loop_unstable_poles\": " << r.closed_loop_unstable_poles << ",\n";
+  o << "    \"applies\": " << (r.margins_apply ? "true" : "false") << ",\n";
+  o << "    \"note\": " << json_string(r.note) << "\n  },\n";
+  o << "  \"explanation\": [";
+  for (std::size_t i = 0; i < r.explanation.size(); ++i)
+    o << (i ? ",\n    " : "\n    ") << json_string(r.explanation[i]);
+  o << (r.explanation.empty() ? "],\n" : "\n  ],\n");
   o << "  \"stable\": " << (r.stable ? "true" : "false") << ",\n";
   const LinearModel& m = r.model;
   o << "  \"linear_model\": {\n    \"states\": [";
@@ -277,6 +298,8 @@ std::string stability_map_json(const StabilityMap& map) {
       << ", \"gain_margin_dB\": " << json_optional(p.gain_margin_db)
       << ", \"phase_margin_deg\": " << json_optional(p.phase_margin_deg)
       << ", \"crossover_frequency_Hz\": " << json_optional(p.crossover_frequency_hz)
+      << ", \"modulus_margin\": " << json_optional(p.modulus_margin)
+      << ", \"applies\": " << (p.margins_apply ? "true" : "false")
       << ", \"dominant_frequency_Hz\": " << json_optional(p.dominant_frequency_hz)
       << ", \"dominant_damping_ratio\": " << json_optional(p.dominant_damping_ratio) << " }";
   }

@@ -58,18 +58,34 @@ def triple_lag_answers(K):
     (s + 1)^3 = -K, s = -1 - K^(1/3) and -1 + K^(1/3) (1/2 +- j sqrt(3)/2);
     Routh-Hurwitz on s^3 + 3 s^2 + 3 s + 1 + K: stable iff K < 8 (Ogata,
     Modern Control Engineering, Routh's stability criterion and the chapter
-    on relative stability: gain and phase margins)."""
+    on relative stability: gain and phase margins).  The modulus margin is
+    the minimum of |(1 + jw)^3 + K| / |1 + jw|^3, taken here on a dense grid
+    of that closed form."""
     k3 = K ** (1.0 / 3.0)
     wc = math.sqrt(k3 ** 2 - 1.0)
     pair = complex(-1.0 + k3 / 2, k3 * math.sqrt(3) / 2) * W0
+    w = np.logspace(-3, 3, 2_000_001)
+    d = np.abs((1 + 1j * w) ** 3 + K) / np.abs(1 + 1j * w) ** 3
+    i = int(np.argmin(d))
+    pm = 180.0 - 3 * math.degrees(math.atan(wc))
+    gm = 20 * math.log10(8.0 / K)
     return {"eigenvalues": np.array([(-1.0 - k3) * W0, pair,
                                      pair.conjugate()]),
             "dominant": cs.mode_summary(pair),
-            "loop": {"gain_margin_dB": 20 * math.log10(8.0 / K),
-                     "phase_margin_deg": 180.0 - 3 * math.degrees(
-                         math.atan(wc)),
+            "loop": {"break": "swash angle in the pump flow",
+                     "gain_margin_dB": gm,
+                     "phase_margin_deg": pm,
                      "crossover_frequency_Hz": hz(wc),
-                     "phase_crossover_frequency_Hz": hz(math.sqrt(3))},
+                     "phase_crossover_frequency_Hz": hz(math.sqrt(3)),
+                     "modulus_margin": float(d[i]),
+                     "modulus_margin_frequency_Hz": hz(w[i]),
+                     "gain_crossovers": [{"frequency_Hz": hz(wc),
+                                          "phase_margin_deg": pm}],
+                     "phase_crossovers": [{"frequency_Hz": hz(math.sqrt(3)),
+                                           "gain_margin_dB": gm}],
+                     "open_loop_unstable_poles": 0,
+                     "closed_loop_unstable_poles": 0 if K < 8.0 else 2,
+                     "applies": True, "note": ""},
             "stable": K < 8.0}
 
 
@@ -80,11 +96,16 @@ def as_doc(model, answers):
             "eigenvalues": [{"re": l.real, "im": l.imag}
                             for l in answers["eigenvalues"]],
             "dominant": answers["dominant"],
-            "loop": dict(answers["loop"], active=True),
+            "loop": copy.deepcopy(answers["loop"]),
             "stable": answers["stable"],
             "linear_model": {"states": [f"x{i}" for i in range(len(A))],
                              "A": A.tolist(), "B": B.tolist(),
                              "C": C.tolist()}}
+
+
+def lag_chain(n, K):
+    """L(s) = K / (s + 1)^n, time-scaled."""
+    return loop_model([K * W0 ** n], np.poly([-W0] * n))
 
 
 class MarginsTest(unittest.TestCase):
@@ -105,12 +126,64 @@ class MarginsTest(unittest.TestCase):
     def test_triple_lag(self):
         for K in (2.0, 4.0, 6.5):
             with self.subTest(K=K):
-                self.assertLoop(cs.loop_margins(*triple_lag(K)),
-                                triple_lag_answers(K)["loop"])
+                want = triple_lag_answers(K)["loop"]
+                got = cs.loop_margins(*triple_lag(K))
+                self.assertLoop(got, {k: want[k] for k in cs.SUMMARY_KEYS
+                                      if not k.startswith("modulus")})
+                # the closed form's grid is 1e-6 decades apart
+                self.assertAlmostEqual(got["modulus_margin"],
+                                       want["modulus_margin"], delta=1e-9)
+                self.assertAlmostEqual(
+                    got["modulus_margin_frequency_Hz"]
+                    / want["modulus_margin_frequency_Hz"], 1.0, delta=1e-5)
+
+    def test_sevenfold_lag_every_crossing(self):
+        """L = K / (s + 1)^7: phase -7 atan(w) is -180 deg at
+        w = tan(180/7 deg) and -540 deg at w = tan(540/7 deg), with
+        |L| = K cos^7 there; |L| = 1 at w = sqrt(K^(2/7) - 1).  Closed
+        loop (s + 1)^7 = -K: poles -1 + K^(1/7) e^(j (2k+1) pi / 7), two
+        of them unstable for 1 / cos^7(pi/7) < K < 1 / cos^7(3 pi/7)
+        (K = 4 here); the Nyquist plot then encircles -1 twice."""
+        K = 4.0
+        A, B, C = lag_chain(7, K)
+        got = cs.analyse(A, B, C)["loop"]
+        angles = (math.pi / 7, 3 * math.pi / 7)
+        self.assertEqual(len(got["phase_crossovers"]), 2)
+        for (f, gm), a in zip(got["phase_crossovers"], angles):
+            self.assertAlmostEqual(f / hz(math.tan(a)), 1.0, delta=1e-9)
+            self.assertAlmostEqual(
+                gm, -20 * math.log10(K * math.cos(a) ** 7), delta=1e-7)
+        wc = math.sqrt(K ** (2 / 7) - 1)
+        self.assertEqual(len(got["gain_crossovers"]), 1)
+        self.assertAlmostEqual(got["gain_crossovers"][0][0] / hz(wc), 1.0,
+                               delta=1e-9)
+        self.assertAlmostEqual(got["gain_crossovers"][0][1],
+                               180 - 7 * math.degrees(math.atan(wc)),
+                               delta=1e-7)
+        self.assertEqual(got["open_loop_unstable_poles"], 0)
+        self.assertEqual(got["closed_loop_unstable_poles"], 2)
+        self.assertEqual(got["nyquist_encirclements"], 2)
+
+    def test_unstable_open_loop_nyquist(self):
+        """L = K / ((s - 1)(s + 2)) has one unstable open-loop pole; the
+        closed loop s^2 + s - 2 + K is stable for K > 2 (Routh-Hurwitz), so
+        the plot must encircle -1 once counter-clockwise (-1 clockwise) for
+        K = 5, and not at all for K = 1 (one unstable closed-loop pole)."""
+        for K, z in ((5.0, 0), (1.0, 1)):
+            with self.subTest(K=K):
+                got = cs.analyse(*loop_model(
+                    [K * W0 ** 2], np.poly([W0, -2 * W0])))["loop"]
+                self.assertEqual(got["open_loop_unstable_poles"], 1)
+                self.assertEqual(got["closed_loop_unstable_poles"], z)
+                self.assertEqual(got["nyquist_encirclements"], z - 1)
 
     def test_triple_lag_unstable_gives_negative_margins(self):
         got = cs.analyse(*triple_lag(10.0))
-        self.assertLoop(got["loop"], triple_lag_answers(10.0)["loop"])
+        want = triple_lag_answers(10.0)["loop"]
+        self.assertLoop(got["loop"], {k: want[k] for k in cs.SUMMARY_KEYS
+                                      if not k.startswith("modulus")})
+        self.assertEqual(got["loop"]["closed_loop_unstable_poles"], 2)
+        self.assertEqual(got["loop"]["nyquist_encirclements"], 2)
         self.assertLess(got["loop"]["gain_margin_dB"], 0.0)
         self.assertLess(got["loop"]["phase_margin_deg"], 0.0)
         self.assertFalse(got["stable"])
@@ -188,9 +261,10 @@ class MarginsTest(unittest.TestCase):
         entries = entries[entries > 0]
         self.assertGreater(entries.max() / entries.min(), 1e20)
         ref, got = cs.analyse(A, B, C), cs.analyse(As, Bs, Cs)
-        for key, value in ref["loop"].items():
+        for key in cs.SUMMARY_KEYS:
+            value = ref["loop"][key]
             self.assertAlmostEqual(got["loop"][key] / value, 1.0,
-                                   delta=1e-9, msg=key)
+                                   delta=1e-8, msg=key)
         np.testing.assert_allclose(np.sort_complex(got["eigenvalues"]),
                                    np.sort_complex(ref["eigenvalues"]),
                                    rtol=1e-9)
@@ -231,7 +305,6 @@ class CompareTest(unittest.TestCase):
         doc["eigenvalues"].reverse()                   # matched as a set
         doc["loop"]["gain_margin_dB"] += 0.03          # inside 0.05 dB
         doc["loop"]["crossover_frequency_Hz"] *= 1.0005   # inside rel-tol
-        del doc["loop"]["phase_crossover_frequency_Hz"]   # optional key
         self.assertTrue(cs.compare(doc)[0])
 
     def perturbed(self, change):
@@ -259,6 +332,20 @@ class CompareTest(unittest.TestCase):
                     damping_ratio=d["dominant"]["damping_ratio"] + 0.01),
             "dominant null": lambda d: d.update(dominant=None),
             "stable flipped": lambda d: d.update(stable=False),
+            "a phase crossover missing":
+                lambda d: d["loop"]["phase_crossovers"].pop(),
+            "an extra gain crossover":
+                lambda d: d["loop"]["gain_crossovers"].append(
+                    {"frequency_Hz": 1234.0, "phase_margin_deg": 10.0}),
+            "modulus margin 1 % off":
+                lambda d: d["loop"].update(
+                    modulus_margin=1.01 * d["loop"]["modulus_margin"]),
+            "closed-loop pole count off":
+                lambda d: d["loop"].update(closed_loop_unstable_poles=1),
+            "open-loop pole count off (breaks Nyquist too)":
+                lambda d: d["loop"].update(open_loop_unstable_poles=1),
+            "applies without a reason when false":
+                lambda d: d["loop"].update(applies=False, note=""),
         }
         for name, change in changes.items():
             with self.subTest(name):
@@ -279,6 +366,12 @@ class CompareTest(unittest.TestCase):
             "text margin": self.perturbed(
                 lambda d: d["loop"].update(gain_margin_dB="big")),
             "stable missing": self.perturbed(lambda d: d.pop("stable")),
+            "v1 loop without the v2 keys": self.perturbed(
+                lambda d: d["loop"].pop("gain_crossovers")),
+            "a key interfaces.md does not define": self.perturbed(
+                lambda d: d["loop"].update(active=True)),
+            "pole count not a number": self.perturbed(
+                lambda d: d["loop"].update(open_loop_unstable_poles="no")),
         }
         for name, doc in cases.items():
             with self.subTest(name):
@@ -308,14 +401,18 @@ class CliCrossCheckTest(unittest.TestCase):
             self.skipTest("no swashtune-cli build or no scenarios")
         checked = 0
         for scenario in scenarios:
-            p = subprocess.run([cli, "stability", scenario, "--json"],
-                               capture_output=True, text=True, timeout=300)
-            if p.returncode != 0 or "linear_model" not in p.stdout:
-                continue
-            with self.subTest(os.path.basename(scenario)):
-                ok, lines = cs.compare(json.loads(p.stdout))
-                self.assertTrue(ok, "\n".join(lines))
-            checked += 1
+            for opening in ([], ["--opening", "0"], ["--opening", "0.1"]):
+                p = subprocess.run([cli, "stability", scenario, "--json"]
+                                   + opening,
+                                   capture_output=True, text=True,
+                                   timeout=300)
+                if p.returncode != 0 or "linear_model" not in p.stdout:
+                    continue
+                with self.subTest(os.path.basename(scenario),
+                                  opening=opening):
+                    ok, lines = cs.compare(json.loads(p.stdout))
+                    self.assertTrue(ok, "\n".join(lines))
+                checked += 1
         if not checked:
             self.skipTest("swashtune-cli has no working `stability --json`")
 

@@ -1,9 +1,11 @@
 // Operating points, linearisation and loop margins.
 //
-// The loop examined is the compensator's pressure feedback opened at the
-// spool's sensing area (interfaces.md): the spool feels an input pressure u
-// in place of p_d. Linearised, x' = A x + B u, y = p_d = C x; the loop
-// transfer is L(s) = -C (sI - A)^-1 B and the closed loop is A + B C.
+// The loop examined is the displacement loop, opened at the swash angle where
+// it sets the pump's geometric flow (interfaces.md, "Stability v2"): in the
+// tangent law Q_g = D_max N/60 tan(u)/tan(a_max) an input u replaces the
+// swash angle, and nothing else changes. Linearised, x' = A x + B u,
+// y = a = C x; the loop transfer is L(s) = -C (sI - A)^-1 B and the closed
+// loop is A + B C (the model's own Jacobian).
 #pragma once
 
 #include <Eigen/Core>
@@ -34,18 +36,20 @@ const char* stop_name(Stop s, bool swash);  // "free", "zero stroke", "full stro
 // ---- linearisation ------------------------------------------------------
 
 // The linear model on the coordinates that are free to move (a coordinate
-// held on a stop does not respond to small disturbances).
+// held on a stop does not respond to small disturbances). Sized by the
+// model's state, whatever its length.
 struct LinearModel {
-  std::vector<int> states;  // indices into State of the free coordinates
-  Eigen::MatrixXd a;        // open loop (u replaces p_d at the sensing area)
-  Eigen::VectorXd b;
-  Eigen::RowVectorXd c;      // picks p_d
+  std::vector<int> states;   // indices into State of the free coordinates
+  Eigen::MatrixXd a;         // open loop: u replaces the swash angle in the tangent law
+  Eigen::VectorXd b;         // d(rates)/du
+  Eigen::RowVectorXd c;      // picks the swash angle (zero when the swash is held)
   Eigen::VectorXd scale;     // the state scales, for well-conditioned algebra
-  bool loop_active = false;  // false when the spool is held: no feedback path
+  bool loop_active = false;  // false when the swashplate rests on a stop: no loop to open
 
   Eigen::MatrixXd closed_loop() const { return a + b * c; }
   // G(jw) = C (jw I - A)^-1 B; the loop transfer is -G.
   std::complex<double> open_loop_response(double omega) const;
+  std::complex<double> loop_transfer(double hz) const;  // L(j 2 pi hz)
 };
 
 LinearModel linearise(const ModelParameters& p, const InitialCondition& at);
@@ -64,24 +68,60 @@ Mode mode_of(std::complex<double> eigenvalue);
 // (scale) first; sorted by decreasing real part.
 std::vector<Mode> modes_of(const Eigen::MatrixXd& a, const Eigen::VectorXd& scale);
 
+// Eigenvalues with Re >= 0.
+int unstable_count(const std::vector<Mode>& modes);
+
 struct BodePoint {
   double frequency_hz;
   double magnitude_db;  // of L(jw)
   double phase_deg;     // of L(jw), unwrapped from the lowest frequency
 };
 
+struct GainCrossover {  // |L(jw)| = 1
+  double frequency_hz;
+  double phase_margin_deg;  // 180 + phase of L, wrapped into (-180, 180]
+};
+
+struct PhaseCrossover {  // L(jw) on the negative real axis: phase an odd multiple of -180 deg
+  double frequency_hz;
+  double gain_margin_db;  // -20 log10 |L|
+};
+
 struct LoopMargins {
+  // The smallest (signed) over all crossings in 0.1 Hz..100 kHz; null when
+  // there is no crossing of that kind.
   std::optional<double> gain_margin_db;
   std::optional<double> phase_margin_deg;
-  std::optional<double> crossover_frequency_hz;        // |L| = 1
-  std::optional<double> phase_crossover_frequency_hz;  // phase of L = -180 deg
+  std::optional<double> crossover_frequency_hz;        // of the gain crossover giving the phase margin
+  std::optional<double> phase_crossover_frequency_hz;  // of the phase crossover giving the gain margin
+  std::optional<double> modulus_margin;                // min |1 + L(jw)|
+  std::optional<double> modulus_margin_frequency_hz;
+  std::vector<GainCrossover> gain_crossovers;  // every one, by frequency
+  std::vector<PhaseCrossover> phase_crossovers;
 };
 
 inline constexpr double margin_search_low_hz = 0.1;
 inline constexpr double margin_search_high_hz = 1e5;
 
 std::vector<BodePoint> loop_bode(const LinearModel& m, double from_hz, double to_hz, int points);
+// Every crossing of L(jw) in 0.1 Hz..100 kHz: a 200-a-decade grid, refined
+// wherever L turns by more than 20 deg or changes by more than 40 % between
+// neighbours, crossings located by bisection, the modulus margin by a
+// golden-section search around the closest grid point.
 LoopMargins loop_margins(const LinearModel& m);
+
+// Number of times L(jw) encircles -1 clockwise as w runs over the whole
+// imaginary axis (the Nyquist contour; L is strictly proper, so the large
+// arc adds nothing). By the Nyquist criterion it equals closed-loop minus
+// open-loop unstable poles. Counted from the frequency response alone, as a
+// check on the eigenvalues; nullopt when L passes too close to -1 to count.
+std::optional<int> nyquist_encirclements(const LinearModel& m);
+
+// Dry (Coulomb) friction or stiction anywhere in the model, named with its
+// value ("faults.spool_friction = 15 N"); a linear model cannot describe the
+// stick-slip it causes. Every friction parameter belongs here.
+std::vector<std::string> dry_friction_sources(const ModelParameters& p);
+bool has_dry_friction(const ModelParameters& p);
 
 struct StabilityReport {
   OperatingPoint operating_point;
@@ -90,15 +130,28 @@ struct StabilityReport {
   std::vector<Mode> modes;       // closed loop
   std::optional<Mode> dominant;  // the oscillatory pair with the least damping ratio
   LoopMargins margins;
-  // Poles of the opened loop (eigenvalues of A) with Re >= 0. With any, the
-  // margins must be read by the Nyquist criterion (that many encirclements)
-  // and only the closed-loop eigenvalues decide stability.
-  int open_loop_unstable_poles = 0;
-  bool stable = false;  // every closed-loop eigenvalue in the left half plane
+  int open_loop_unstable_poles = 0;    // eigenvalues of A with Re >= 0
+  int closed_loop_unstable_poles = 0;  // eigenvalues of A + B C with Re >= 0
+  bool stable = false;                 // every closed-loop eigenvalue in the left half plane
+  // Whether the margins are stability margins: the loop is active, the
+  // opened loop is stable by itself and the model is linear enough (no dry
+  // friction). When false, `note` says why in plain words, and no view may
+  // present the margins as safe.
+  bool margins_apply = false;
+  std::string note;
+  bool dry_friction = false;
+  // What a plant engineer should read first: the verdict and the margins in
+  // plain words, shared by every front end.
+  std::vector<std::string> explanation;
 };
 
 StabilityReport analyse_stability(const ModelParameters& p, const RunSettings& settings,
                                   const std::optional<InitialCondition>& guess = std::nullopt);
+
+// "the loop can take 4.5 times more gain before it hunts": the report in
+// plain words (the verdict from the eigenvalues first). Fills
+// StabilityReport::explanation; exposed for tests.
+std::vector<std::string> explain_stability(const StabilityReport& report);
 
 // ---- steady characteristic ------------------------------------------------
 
@@ -133,7 +186,8 @@ Axis parse_axis(const std::string& text);
 struct MapPoint {
   double x, y;
   bool solved = false;  // false when no operating point could be found
-  std::optional<double> gain_margin_db, phase_margin_deg, crossover_frequency_hz;
+  std::optional<double> gain_margin_db, phase_margin_deg, crossover_frequency_hz, modulus_margin;
+  bool margins_apply = false;
   std::optional<double> dominant_frequency_hz, dominant_damping_ratio;
   bool stable = false;
 };

@@ -123,8 +123,11 @@ T geometric_flow(const Derived& d, const T& a, const StateOf<T>& x) {
   return q;
 }
 
+// `pump_flow_angle`, when given, replaces the swash angle in the tangent law
+// only: that is where the stability analysis opens the displacement loop
+// (interfaces.md, "Stability v2"); everything else still sees x's angle.
 template <class T>
-FlowsOf<T> flows(const ModelParameters& p, const Derived& d, const StateOf<T>& x) {
+FlowsOf<T> flows(const ModelParameters& p, const Derived& d, const StateOf<T>& x, const T* pump_flow_angle = nullptr) {
   const double rho = d.density;
   const double dp_tr = p.transition_pressure;
   const T& x_s = x[state::spool_position];
@@ -137,7 +140,7 @@ FlowsOf<T> flows(const ModelParameters& p, const Derived& d, const StateOf<T>& x
   const T& p_c = f.chamber_pressure;
   const T& p_k = f.port_pressure;
 
-  f.geometric = geometric_flow(d, x[state::swash_angle], x);
+  f.geometric = geometric_flow(d, pump_flow_angle ? *pump_flow_angle : x[state::swash_angle], x);
   f.leakage = d.leakage_coefficient * p_d;
   const T open_in = p.underlap + x_s;
   const T open_out = p.underlap - x_s;
@@ -230,9 +233,10 @@ T pressure_rate(const ModelParameters& p, const Derived& d, const T& pressure, c
 // dx/dt. A coordinate held at a stop has zero rates here (the simulator
 // adds the motion of a moving stop).
 template <class T>
-StateOf<T> derivatives(const ModelParameters& p, const Derived& d, const StopModes& modes, const StateOf<T>& x) {
+StateOf<T> derivatives(const ModelParameters& p, const Derived& d, const StopModes& modes, const StateOf<T>& x,
+                       const T* pump_flow_angle = nullptr) {
   const Layout& L = d.layout;
-  const FlowsOf<T> f = flows(p, d, x);
+  const FlowsOf<T> f = flows(p, d, x, pump_flow_angle);
   const T& a = x[state::swash_angle];
   const T& w = x[state::swash_velocity];
   const T& v_s = x[state::spool_velocity];
@@ -296,7 +300,15 @@ inline State derivatives(const ModelParameters& p, const StopModes& modes, const
 }
 
 // Jacobian d(dx/dt)/dx by forward automatic differentiation (Eigen AutoDiff).
-Jacobian jacobian(const ModelParameters& p, const Derived& d, const StopModes& modes, const State& x);
+// With `pump_flow_angle` the tangent law sees that fixed angle instead of x's
+// (the displacement loop opened, as the stability analysis does).
+Jacobian jacobian(const ModelParameters& p, const Derived& d, const StopModes& modes, const State& x,
+                  const double* pump_flow_angle = nullptr);
+
+// d(dx/dt)/du, u being the angle the tangent law sees, at u (automatic
+// differentiation with x held): the input column of the opened loop.
+State flow_angle_sensitivity(const ModelParameters& p, const Derived& d, const StopModes& modes, const State& x,
+                             double u);
 
 inline Flows flows(const ModelParameters& p, const State& x) { return flows<double>(p, Derived(p), x); }
 
