@@ -21,6 +21,7 @@
 #include "swashtune/scenario.hpp"
 #include "swashtune/units.hpp"
 #include "text_helpers.hpp"
+#include "toml_guard.hpp"
 
 namespace swashtune {
 
@@ -381,6 +382,8 @@ class Reader {
 }  // namespace
 
 Scenario parse_scenario(const std::string& text, const std::string& source_name) {
+  // Only text of well-formed shape reaches toml++ (see toml_guard.hpp).
+  detail::check_toml_text(text, source_name);
   toml::table root;
   try {
     root = toml::parse(std::string_view(text), std::string_view(source_name));
@@ -389,7 +392,13 @@ Scenario parse_scenario(const std::string& text, const std::string& source_name)
     throw ScenarioError(source_name + ":" + std::to_string(begin.line) + ":" + std::to_string(begin.column) +
                         ": malformed TOML: " + std::string(e.description()));
   }
-  return Reader(source_name).read(root);
+  Scenario scenario = Reader(source_name).read(root);
+  if (root.empty())
+    scenario.warnings.push_back(source_name +
+                                ": the file sets nothing (it is empty or holds only comments), so this is the "
+                                "default study: every parameter at its default and no events. Is it the file you "
+                                "meant?");
+  return scenario;
 }
 
 Scenario load_scenario(const std::string& path) {

@@ -27,6 +27,9 @@ struct Scenario {
   ModelParameters parameters = default_parameters();
   RunSettings settings = default_settings();
   std::vector<Event> events;  // sorted by time (stable), see sort_events()
+  // Things the loader accepted but the user probably did not mean (an empty
+  // file, say), each a sentence naming the file; shown, never saved.
+  std::vector<std::string> warnings;
 };
 
 // Bad input: the message names the source, the line and the key, what was
