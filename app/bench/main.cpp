@@ -7,8 +7,10 @@
 #include <cmath>
 #include <cstdio>
 #include <iostream>
+#include <new>
 #include <optional>
 #include <sstream>
+#include <stdexcept>
 #include <string>
 #include <thread>
 #include <vector>
@@ -27,6 +29,7 @@ constexpr int exit_ok = 0;
 constexpr int exit_check_failed = 1;
 constexpr int exit_bad_input = 2;
 constexpr int exit_solver_failed = 3;
+constexpr int exit_out_of_memory = 4;
 
 // The reference: the project's own solver far tighter than any benchmarked
 // tolerance, so its own error is negligible against theirs.
@@ -362,6 +365,12 @@ int main(int argc, char** argv) {
   } catch (const SolverError& e) {
     std::cerr << e.what() << "\n";
     return exit_solver_failed;
+  } catch (const std::bad_alloc&) {  // the traces are kept whole: a long, finely sampled run can exhaust memory
+    std::fputs("swashtune-bench: out of memory; bench a shorter run or a longer sample_interval\n", stderr);
+    return exit_out_of_memory;
+  } catch (const std::length_error&) {
+    std::fputs("swashtune-bench: out of memory; bench a shorter run or a longer sample_interval\n", stderr);
+    return exit_out_of_memory;
   } catch (const std::exception& e) {
     std::cerr << "swashtune-bench: " << e.what() << "\n";
     return exit_solver_failed;

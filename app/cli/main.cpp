@@ -10,8 +10,10 @@
 #include <filesystem>
 #include <iostream>
 #include <memory>
+#include <new>
 #include <optional>
 #include <set>
+#include <stdexcept>
 #include <string>
 
 #include "swashtune/analysis.hpp"
@@ -34,6 +36,7 @@ using namespace swashtune;
 constexpr int exit_ok = 0;
 constexpr int exit_bad_input = 2;
 constexpr int exit_solver_failed = 3;
+constexpr int exit_out_of_memory = 4;
 // In-memory trace for the metrics of one run: beyond this it is thinned.
 constexpr std::size_t kept_trace_samples = 1u << 16;
 
@@ -54,43 +57,55 @@ PressureUnit pressure_unit(UnitSystem units) {
   return {"Pa", 1.0};
 }
 
+// load_scenario, with its warnings on stderr.
+Scenario load_study(const std::string& path) {
+  Scenario scenario = load_scenario(path);
+  for (const std::string& warning : scenario.warnings) std::cerr << "warning: " << warning << "\n";
+  return scenario;
+}
+
 int run_command(const std::string& scenario_path, const std::string& out_dir, const std::string& units_name) {
   const auto units = parse_unit_system(units_name);
   if (!units) {
     std::cerr << "swashtune-cli run: --units: expected si, metric or us, got \"" << units_name << "\"\n";
     return exit_bad_input;
   }
-  const Scenario scenario = load_scenario(scenario_path);
+  const Scenario scenario = load_study(scenario_path);
+  // Both files are written into a new folder beside out_dir, the trace
+  // streaming while it is simulated (memory stays bounded for runs of hours),
+  // and that folder takes out_dir's place only when the run has succeeded:
+  // a reader sees the earlier pair or the new one, never a mix.
   std::error_code ec;
-  std::filesystem::create_directories(out_dir, ec);
-  if (ec || !std::filesystem::is_directory(out_dir)) {
-    std::cerr << out_dir << ": cannot use as output folder" << (ec ? ": " + ec.message() : "") << "\n";
-    return exit_bad_input;
-  }
-  // The trace streams to a temporary file while it is simulated (memory stays
-  // bounded for runs of hours); both files replace earlier ones only when
-  // the run has succeeded.
-  const std::filesystem::path dir(out_dir);
-  StreamingFile trace_file((dir / "trace.csv").string());
-  const TraceRowFormatter rows(*units);
-  std::string pending = rows.header();
+  const bool had_results = std::filesystem::exists(std::filesystem::path(out_dir) / "summary.json", ec);
   long long samples = 0;
-  RunOptions options;
-  options.max_trace_samples = kept_trace_samples;
-  options.stream = [&](const Sample& s) {
-    rows.append(pending, s);
-    ++samples;
-    if (pending.size() > (1u << 20)) {
-      trace_file.write(pending);
-      pending.clear();
-    }
-  };
-  const RunResult result = run_scenario(scenario, options);
-  trace_file.write(pending);
-  const auto metrics = event_metrics(scenario, result);
-  const std::string json = summary_json(scenario, result, metrics);
-  trace_file.commit();
-  write_file_atomically((dir / "summary.json").string(), json);
+  RunResult result;
+  std::vector<EventMetrics> metrics;
+  try {
+    ResultFolder results(out_dir, {"trace.csv", "summary.json"});
+    StreamingFile trace_file(results.staged("trace.csv"), results.shown("trace.csv"));
+    const TraceRowFormatter rows(*units);
+    std::string pending = rows.header();
+    RunOptions options;
+    options.max_trace_samples = kept_trace_samples;
+    options.stream = [&](const Sample& s) {
+      rows.append(pending, s);
+      ++samples;
+      if (pending.size() > (1u << 20)) {
+        trace_file.write(pending);
+        pending.clear();
+      }
+    };
+    result = run_scenario(scenario, options);
+    metrics = event_metrics(scenario, result);
+    trace_file.write(pending);
+    trace_file.commit();
+    write_file_atomically(results.staged("summary.json"), summary_json(scenario, result, metrics),
+                          results.shown("summary.json"));
+    results.commit();
+  } catch (const FileError& e) {
+    throw FileError(std::string(e.what()) + (had_results ? "; " + out_dir + " still holds the earlier run's results"
+                                                         : "; nothing was written"));
+  }
 
   const PressureUnit pu = pressure_unit(*units);
   std::printf("%s: %lld samples written to %s\n", scenario.name.c_str(), samples, out_dir.c_str());
@@ -117,7 +132,7 @@ int run_command(const std::string& scenario_path, const std::string& out_dir, co
 }
 
 int check_command(const std::string& scenario_path, bool json) {
-  const Scenario scenario = load_scenario(scenario_path);
+  const Scenario scenario = load_study(scenario_path);
   if (json) {
     std::cout << scenario_to_json(scenario);
     return exit_ok;
@@ -203,7 +218,7 @@ int stability_command(const std::string& scenario_path, const std::optional<doub
                       const std::string& units_name) {
   const auto units = parse_unit_system(units_name);
   if (!units) throw ScenarioError("--units: expected si, metric or us, got \"" + units_name + "\"");
-  const Scenario scenario = load_scenario(scenario_path);
+  const Scenario scenario = load_study(scenario_path);
   const ModelParameters p = with_opening(scenario, opening);
   if (!map_axes.empty()) {
     if (map_axes.size() != 2) throw ScenarioError("--map: give exactly two axes, KEY=FROM:TO:N KEY2=FROM:TO:N");
@@ -245,7 +260,7 @@ int steady_command(const std::string& scenario_path, int points, bool json, cons
   const auto units = parse_unit_system(units_name);
   if (!units) throw ScenarioError("--units: expected si, metric or us, got \"" + units_name + "\"");
   if (points < 2 || points > 10000) throw ScenarioError("--points: must be from 2 to 10000");
-  const Scenario scenario = load_scenario(scenario_path);
+  const Scenario scenario = load_study(scenario_path);
   const Characteristic ch = steady_characteristic(scenario.parameters, scenario.settings, points);
   if (json) {
     std::cout << characteristic_json(ch);
@@ -301,7 +316,7 @@ int field_command(const std::string& path, const FieldTraceOptions& options, std
 
 int fit_command(const std::string& scenario_path, const std::string& trace_path, const FieldTraceOptions& trace_options,
                 const std::string& free, bool json, const std::string& out_path) {
-  const Scenario scenario = load_scenario(scenario_path);
+  const Scenario scenario = load_study(scenario_path);
   const FieldTrace trace = read_field_trace(trace_path, trace_options);
   FitOptions options;
   std::string rest = free;
@@ -395,7 +410,7 @@ struct SweepCommand {
 Sweep make_sweep(const SweepCommand& c) {
   if (c.vary.empty())
     throw SweepError("give what to vary: --vary KEY=FROM:TO:N (a grid), or --vary KEY=FROM:TO with --samples N");
-  const Scenario base = load_scenario(c.scenario_path);
+  const Scenario base = load_study(c.scenario_path);
   if (c.samples) {
     std::vector<SweepRange> ranges;
     for (const std::string& text : c.vary) ranges.push_back(parse_sweep_range(text));
@@ -469,8 +484,18 @@ int sweep_command(const SweepCommand& c) {
     const double seconds = std::chrono::duration<double>(std::chrono::steady_clock::now() - started).count();
     if (std::fclose(file.release()) != 0) throw FileError(c.out_path + ": cannot write: " + std::strerror(errno));
 
-    const SweepTable table = parse_sweep_table(read_file(c.out_path), c.out_path);
-    write_file_atomically(c.out_path, sorted_sweep_table(table.header, table.rows, c.out_path));
+    const std::string unsorted = read_file(c.out_path);
+    const SweepTable table = parse_sweep_table(unsorted, c.out_path);
+    try {
+      write_file_atomically(c.out_path, sorted_sweep_table(table.header, table.rows, c.out_path));
+    } catch (const FileError& e) {
+      char room[32];
+      std::snprintf(room, sizeof room, "%.3g MB", unsorted.size() / 1e6);
+      throw FileError(std::string(e.what()) + "\nEvery point of the sweep was computed and is in " + c.out_path +
+                      " (rows in the order they finished); only the final rewrite sorted by index needs room (" + room +
+                      " beside the file). Free that space and run the same command with --resume: it " +
+                      "computes nothing and only sorts the file.");
+    }
 
     std::printf("%s: %zu points", c.out_path.c_str(), indices.size());
     if (shard.count > 1) std::printf(" (shard %zu/%zu of %zu)", shard.part, shard.count, sweep.size());
@@ -513,6 +538,21 @@ int merge_command(const std::string& out_path, const std::vector<std::string>& i
     std::cerr << "swashtune-cli merge: " << e.what() << "\n";
     return exit_bad_input;
   }
+}
+
+// Allocation failure: no further allocation here (the message is static) and
+// a documented exit status. Result files are untouched: they are replaced
+// only after a complete run.
+int out_of_memory(const CLI::App& app) {
+  const char* command = "swashtune-cli";
+  for (const CLI::App* sub : app.get_subcommands()) command = sub->get_name().c_str();
+  std::fprintf(stderr,
+               "swashtune-cli %s: out of memory; nothing was written over earlier results. Free memory, or make the "
+               "job smaller (a shorter run or a longer sample_interval, fewer sweep points, a shorter recording).\n",
+               command);
+  if (std::strcmp(command, "sweep") == 0)
+    std::fprintf(stderr, "The sweep's finished rows are kept in its file; --resume continues it.\n");
+  return exit_out_of_memory;
 }
 
 }  // namespace
@@ -646,6 +686,10 @@ int main(int argc, char** argv) {
   } catch (const SolverError& e) {
     std::cerr << e.what() << "\n";
     return exit_solver_failed;
+  } catch (const std::bad_alloc&) {
+    return out_of_memory(app);
+  } catch (const std::length_error&) {  // a size past what can be allocated
+    return out_of_memory(app);
   } catch (const std::exception& e) {
     std::cerr << "internal error: " << e.what() << "\n";
     return 1;

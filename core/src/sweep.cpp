@@ -6,6 +6,7 @@
 #include <cmath>
 #include <exception>
 #include <mutex>
+#include <new>
 #include <random>
 #include <set>
 #include <thread>
@@ -216,6 +217,8 @@ SweepRow run_sweep_point(const Sweep& sweep, std::size_t index) {
     row.stable = stability.stable;
   } catch (const SolverError& e) {
     return failed_row(row, e.what());  // "solver failed at t = ...: why"
+  } catch (const std::bad_alloc&) {
+    throw;  // not a property of the point: the sweep stops (its finished rows stay for --resume)
   } catch (const std::exception& e) {
     return failed_row(row, "failed: " + std::string(e.what()));
   }
