@@ -37,8 +37,6 @@ constexpr int exit_ok = 0;
 constexpr int exit_bad_input = 2;
 constexpr int exit_solver_failed = 3;
 constexpr int exit_out_of_memory = 4;
-// In-memory trace for the metrics of one run: beyond this it is thinned.
-constexpr std::size_t kept_trace_samples = 1u << 16;
 
 struct PressureUnit {
   const char* name;
@@ -86,7 +84,7 @@ int run_command(const std::string& scenario_path, const std::string& out_dir, co
     const TraceRowFormatter rows(*units);
     std::string pending = rows.header();
     RunOptions options;
-    options.max_trace_samples = kept_trace_samples;
+    options.max_trace_samples = run_kept_trace_samples;
     options.stream = [&](const Sample& s) {
       rows.append(pending, s);
       ++samples;
@@ -297,10 +295,7 @@ int field_command(const std::string& path, const FieldTraceOptions& options, std
   const FieldTrace trace = read_field_trace(path, options);
   const OscillationReport o = analyse_oscillation(trace.time, trace.pressure, from, to);
   if (json) {
-    std::cout << "{\n  \"source\": " << json_string(trace.source) << ",\n  \"samples\": " << trace.time.size()
-              << ",\n  \"time_from_s\": " << json_number(trace.time.front())
-              << ",\n  \"time_to_s\": " << json_number(trace.time.back())
-              << ",\n  \"oscillation\": " << oscillation_json(o) << "\n}\n";
+    std::cout << field_json(trace, o);
     return exit_ok;
   }
   std::printf("%s: %zu samples from %.6g s to %.6g s (time from \"%s\", pressure from \"%s\")\n", trace.source.c_str(),
@@ -333,20 +328,7 @@ int fit_command(const std::string& scenario_path, const std::string& trace_path,
   if (terminal) std::fprintf(stderr, "\n");
   if (!out_path.empty()) write_file_atomically(out_path, scenario_to_toml(fit.fitted));
   if (json) {
-    std::cout << "{\n  \"parameters\": [";
-    for (std::size_t i = 0; i < fit.parameters.size(); ++i) {
-      const FittedParameter& p = fit.parameters[i];
-      std::cout << (i ? ",\n    " : "\n    ") << "{ \"key\": " << json_string(p.key)
-                << ", \"initial\": " << json_number(p.initial) << ", \"fitted\": " << json_number(p.value)
-                << ", \"standard_error\": " << json_number(p.standard_error)
-                << ", \"identifiable\": " << (p.identifiable ? "true" : "false")
-                << ", \"note\": " << json_string(p.note) << " }";
-    }
-    std::cout << "\n  ],\n  \"initial_rms_residual_Pa\": " << json_number(fit.initial_rms)
-              << ",\n  \"rms_residual_Pa\": " << json_number(fit.rms) << ",\n  \"samples\": " << fit.samples
-              << ",\n  \"simulations\": " << fit.simulations
-              << ",\n  \"converged\": " << (fit.converged ? "true" : "false")
-              << ",\n  \"message\": " << json_string(fit.message) << "\n}\n";
+    std::cout << fit_json(fit);
     return exit_ok;
   }
   std::printf("fit of %s to %s (%d samples, %d simulations): %s\n", scenario_path.c_str(), trace.source.c_str(),
@@ -408,17 +390,7 @@ struct SweepCommand {
 };
 
 Sweep make_sweep(const SweepCommand& c) {
-  if (c.vary.empty())
-    throw SweepError("give what to vary: --vary KEY=FROM:TO:N (a grid), or --vary KEY=FROM:TO with --samples N");
-  const Scenario base = load_study(c.scenario_path);
-  if (c.samples) {
-    std::vector<SweepRange> ranges;
-    for (const std::string& text : c.vary) ranges.push_back(parse_sweep_range(text));
-    return Sweep::latin_hypercube(base, ranges, *c.samples, c.seed);
-  }
-  std::vector<Axis> axes;
-  for (const std::string& text : c.vary) axes.push_back(parse_sweep_axis(text));
-  return Sweep::grid(base, axes);
+  return make_sweep(load_study(c.scenario_path), c.vary, c.samples, c.seed);
 }
 
 // Rows go to the file as they finish, each flushed, so that a sweep stopped

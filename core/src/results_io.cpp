@@ -39,9 +39,7 @@ const std::vector<TraceColumn>& trace_columns() {
   return columns;
 }
 
-namespace {
-
-std::string_view unit_in(const TraceColumn& c, UnitSystem units) {
+std::string_view column_unit(const TraceColumn& c, UnitSystem units) {
   switch (units) {
     case UnitSystem::si:
       return c.si_unit;
@@ -52,6 +50,8 @@ std::string_view unit_in(const TraceColumn& c, UnitSystem units) {
   }
   return c.si_unit;
 }
+
+namespace {
 
 // "m^3/s" -> "m3_s", "L/min" -> "L_min", "-" -> "" (interfaces.md's suffixes).
 std::string unit_suffix(std::string_view unit) {
@@ -68,12 +68,12 @@ std::string unit_suffix(std::string_view unit) {
 }  // namespace
 
 std::string column_header(const TraceColumn& column, UnitSystem units) {
-  const std::string suffix = unit_suffix(unit_in(column, units));
+  const std::string suffix = unit_suffix(column_unit(column, units));
   return suffix.empty() ? std::string(column.quantity) : std::string(column.quantity) + "_" + suffix;
 }
 
 TraceRowFormatter::TraceRowFormatter(UnitSystem units) {
-  for (const TraceColumn& c : trace_columns()) factors_.push_back(convert(1.0, c.si_unit, unit_in(c, units)));
+  for (const TraceColumn& c : trace_columns()) factors_.push_back(convert(1.0, c.si_unit, column_unit(c, units)));
   for (std::size_t i = 0; i < trace_columns().size(); ++i) {
     if (i) header_ += ',';
     header_ += column_header(trace_columns()[i], units);
@@ -315,6 +315,32 @@ std::string bode_csv(const std::vector<BodePoint>& bode) {
     out += buffer;
   }
   return out;
+}
+
+std::string field_json(const FieldTrace& trace, const OscillationReport& report) {
+  std::ostringstream o;
+  o << "{\n  \"source\": " << json_string(trace.source) << ",\n  \"samples\": " << trace.time.size()
+    << ",\n  \"time_from_s\": " << json_number(trace.time.front())
+    << ",\n  \"time_to_s\": " << json_number(trace.time.back()) << ",\n  \"oscillation\": " << oscillation_json(report)
+    << "\n}\n";
+  return o.str();
+}
+
+std::string fit_json(const FitResult& fit) {
+  std::ostringstream o;
+  o << "{\n  \"parameters\": [";
+  for (std::size_t i = 0; i < fit.parameters.size(); ++i) {
+    const FittedParameter& p = fit.parameters[i];
+    o << (i ? ",\n    " : "\n    ") << "{ \"key\": " << json_string(p.key)
+      << ", \"initial\": " << json_number(p.initial) << ", \"fitted\": " << json_number(p.value)
+      << ", \"standard_error\": " << json_number(p.standard_error)
+      << ", \"identifiable\": " << (p.identifiable ? "true" : "false") << ", \"note\": " << json_string(p.note) << " }";
+  }
+  o << "\n  ],\n  \"initial_rms_residual_Pa\": " << json_number(fit.initial_rms)
+    << ",\n  \"rms_residual_Pa\": " << json_number(fit.rms) << ",\n  \"samples\": " << fit.samples
+    << ",\n  \"simulations\": " << fit.simulations << ",\n  \"converged\": " << (fit.converged ? "true" : "false")
+    << ",\n  \"message\": " << json_string(fit.message) << "\n}\n";
+  return o.str();
 }
 
 }  // namespace swashtune

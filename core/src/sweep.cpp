@@ -172,6 +172,20 @@ Scenario Sweep::scenario_at(std::size_t index) const {
   return s;
 }
 
+Sweep make_sweep(const Scenario& base, const std::vector<std::string>& vary, const std::optional<std::size_t>& samples,
+                 std::uint64_t seed) {
+  if (vary.empty())
+    throw SweepError("give what to vary: --vary KEY=FROM:TO:N (a grid), or --vary KEY=FROM:TO with --samples N");
+  if (samples) {
+    std::vector<SweepRange> ranges;
+    for (const std::string& text : vary) ranges.push_back(parse_sweep_range(text));
+    return Sweep::latin_hypercube(base, ranges, *samples, seed);
+  }
+  std::vector<Axis> axes;
+  for (const std::string& text : vary) axes.push_back(parse_sweep_axis(text));
+  return Sweep::grid(base, axes);
+}
+
 Shard parse_shard(const std::string& text) {
   const std::string usage = "--shard " + text + ": expected K/N with 1 <= K <= N, e.g. 3/16";
   const auto slash = text.find('/');

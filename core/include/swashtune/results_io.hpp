@@ -8,6 +8,8 @@
 #include <vector>
 
 #include "swashtune/analysis.hpp"
+#include "swashtune/field_trace.hpp"
+#include "swashtune/fit.hpp"
 #include "swashtune/metrics.hpp"
 #include "swashtune/simulator.hpp"
 
@@ -28,8 +30,14 @@ struct TraceColumn {
 
 const std::vector<TraceColumn>& trace_columns();
 
+// Unit expression of a column in a unit system, e.g. "bar".
+std::string_view column_unit(const TraceColumn& column, UnitSystem units);
 // Header name of a column in a unit system, e.g. "discharge_pressure_bar".
 std::string column_header(const TraceColumn& column, UnitSystem units);
+
+// Samples `run` keeps in memory for a run's metrics (RunOptions::
+// max_trace_samples): a longer trace is thinned, so memory stays bounded.
+inline constexpr std::size_t run_kept_trace_samples = 1u << 16;
 
 // Formats trace rows in a unit system; shared by the whole-trace writer and
 // the streaming one (StreamingFile, atomic_file.hpp).
@@ -59,6 +67,10 @@ std::string characteristic_json(const Characteristic& characteristic);
 std::string stability_map_json(const StabilityMap& map);
 // Bode data of the loop transfer L(jw): frequency_Hz, magnitude_dB, phase_deg.
 std::string bode_csv(const std::vector<BodePoint>& bode);
+
+// A recording's oscillation analysis (field --json) and a fit (fit --json).
+std::string field_json(const FieldTrace& trace, const OscillationReport& report);
+std::string fit_json(const FitResult& fit);
 
 // JSON helpers shared by the writers: finite numbers with full precision,
 // non-finite ones as null; strings escaped.

@@ -69,6 +69,12 @@ class Sweep {
   std::vector<double> samples_;                   // hypercube: size_ x keys, row-major
 };
 
+// The sweep that `swashtune-cli sweep` runs: the grid of `vary` axes
+// ("KEY=FROM:TO:N"), or with `samples` a Latin hypercube in the `vary` ranges
+// ("KEY=FROM:TO") drawn with `seed`. Throws SweepError or ScenarioError.
+Sweep make_sweep(const Scenario& base, const std::vector<std::string>& vary, const std::optional<std::size_t>& samples,
+                 std::uint64_t seed);
+
 // Points [index % count == part - 1] of a sweep split into `count` shards.
 struct Shard {
   std::size_t part = 1;  // 1-based
