@@ -293,6 +293,7 @@ PYBIND11_MODULE(_swashtune, m) {
   py::class_<Scenario>(m, "CoreScenario", "A scenario as the core holds it (stored units).")
       .def_readonly("name", &Scenario::name)
       .def_readonly("description", &Scenario::description)
+      .def_readonly("warnings", &Scenario::warnings)
       .def("value", &value_of, py::arg("key"))
       .def("to_toml", [](const Scenario& s) { return scenario_to_toml(s); })
       .def("to_json", [](const Scenario& s) { return scenario_to_json(s); })

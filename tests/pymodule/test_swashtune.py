@@ -252,6 +252,16 @@ def test_a_bad_recording_raises_the_clis_message(name):
     assert str(raised.value) == message
 
 
+def test_a_warning_of_the_loader_is_the_clis(tmp_path):
+    empty = tmp_path / "empty.toml"
+    empty.write_text("")
+    shown = [line for line in cli("check", empty).stderr.splitlines() if line.startswith("warning: ")]
+    assert shown, "the CLI warns about an empty scenario file"
+    with pytest.warns(swashtune.ScenarioWarning) as caught:
+        s = swashtune.Scenario(empty)
+    assert ["warning: " + str(w.message) for w in caught] == shown == ["warning: " + w for w in s.warnings]
+
+
 def test_a_missing_file_names_the_path():
     message = cli("check", "/nonexistent/press.toml", expect=2).stderr.strip()
     with pytest.raises(swashtune.ScenarioError, match="/nonexistent/press.toml") as raised:

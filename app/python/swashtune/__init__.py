@@ -26,6 +26,7 @@ import math
 import os
 import re
 import tomllib
+import warnings as _warnings
 from typing import Any, Iterable, Mapping
 
 import numpy as np
@@ -58,9 +59,20 @@ __all__ = [
     "SweepError",
     "FileError",
     "UnitError",
+    "ScenarioWarning",
     "safety_notice",
     "safety_notice_short",
 ]
+
+
+class ScenarioWarning(UserWarning):
+    """Something the loader accepted but that was probably not meant (the CLI's "warning: ...")."""
+
+
+def _loaded(core):
+    for text in core.warnings:
+        _warnings.warn(text, ScenarioWarning, stacklevel=3)
+    return core
 
 
 def parameters() -> list[dict]:
@@ -142,12 +154,12 @@ class Scenario:
         elif isinstance(source, Mapping):
             self._core = _parse_generated(source, "<dict>")
         else:
-            self._core = _core.load_scenario(os.fspath(source))
+            self._core = _loaded(_core.load_scenario(os.fspath(source)))
 
     @classmethod
     def from_toml(cls, text: str, source: str = "<text>") -> "Scenario":
         """A scenario from TOML text; messages name `source`."""
-        return cls._wrap(_core.parse_scenario(text, source))
+        return cls._wrap(_loaded(_core.parse_scenario(text, source)))
 
     @classmethod
     def _wrap(cls, core) -> "Scenario":
@@ -162,6 +174,11 @@ class Scenario:
     @property
     def description(self) -> str:
         return self._core.description
+
+    @property
+    def warnings(self) -> list[str]:
+        """What the loader warned about when it read the scenario (also issued as ScenarioWarning)."""
+        return list(self._core.warnings)
 
     @property
     def events(self) -> list[dict]:
