@@ -14,7 +14,7 @@ source_dir=$(cd "$2" && pwd)
   skip "needs root: slurmd runs the tasks and the daemons run as root on this test cluster (CI runs as root)"
 PATH=$bin_dir:$PATH:/usr/sbin:/sbin
 export PATH
-need_commands munged mungekey slurmctld slurmd sbatch squeue scontrol scancel
+need_commands munged mungekey slurmctld slurmd sbatch squeue sinfo scontrol scancel
 
 limit=300  # s for the whole array, far above the half minute it needs
 requeued_task=2
