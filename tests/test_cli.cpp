@@ -74,9 +74,26 @@ TEST_F(Cli, RunWritesTraceAndSummaryWithTheInterfaceColumns) {
   for (const char* key : {"\"scenario\"", "\"peak_discharge_pressure_Pa\"", "\"final\"", "\"discharge_pressure_Pa\"",
                           "\"swash_angle_rad\"", "\"pump_flow_m3_s\"", "\"load_flow_m3_s\"", "\"events\"", "\"time_s\"",
                           "\"target\"", "\"overshoot_percent\"", "\"settling_time_s\"", "\"swash_response_time_s\"",
-                          "\"solver\"", "\"steps\"", "\"rejected_steps\"", "\"rhs_evaluations\"", "\"wall_time_s\""})
+                          // Event metrics v2
+                          "\"undershoot_percent\"", "\"swash_travel_time_s\"", "\"note\"", "\"solver\"", "\"steps\"",
+                          "\"rejected_steps\"", "\"rhs_evaluations\"", "\"wall_time_s\""})
     EXPECT_NE(json.find(key), std::string::npos) << key;
+  // The reopening is a fall: undershoot, and a null overshoot.
+  EXPECT_NE(json.find("\"overshoot_percent\": null, \"undershoot_percent\": "), std::string::npos) << json;
+  EXPECT_NE(o.out.find("undershoot"), std::string::npos) << o.out;
   EXPECT_NE(o.out.find("Caution"), std::string::npos);  // results a person could act on
+}
+
+// A hunting pump: no settling time, and the summary says why.
+TEST_F(Cli, RunOfAHuntingPumpSaysItDoesNotSettle) {
+  const std::string hunting = std::string(SWASHTUNE_SOURCE_DIR) + "/scenarios/hunting-oversized-damping-orifice.toml";
+  const Outcome o = cli("run " + hunting + " --out " + (dir_ / "h").string());
+  ASSERT_EQ(o.exit_code, 0) << o.err;
+  EXPECT_NE(o.out.find("does not settle: hunting"), std::string::npos) << o.out;
+  EXPECT_EQ(o.out.find("settling 0.0 ms"), std::string::npos) << o.out;
+  const std::string json = slurp(dir_ / "h" / "summary.json");
+  EXPECT_NE(json.find("\"settling_time_s\": null"), std::string::npos);
+  EXPECT_NE(json.find("\"note\": \"does not settle: hunting\""), std::string::npos);
 }
 
 TEST_F(Cli, MetricAndUsUnitsRenameAndConvertColumns) {
@@ -201,6 +218,9 @@ TEST_F(Cli, StabilityOfAStickySpoolWarns) {
   ASSERT_EQ(table.exit_code, 0) << table.err;
   EXPECT_NE(table.out.find("cannot describe stick-slip"), std::string::npos) << table.out;
   EXPECT_NE(table.out.find("do NOT apply"), std::string::npos) << table.out;
+  // ... and shows what a run of the scenario does instead.
+  EXPECT_NE(table.out.find("better guide"), std::string::npos) << table.out;
+  EXPECT_NE(table.out.find("sustained oscillation"), std::string::npos) << table.out;
   const Outcome json = cli("stability " + sticky + " --opening 0 --json");
   EXPECT_NE(json.out.find("\"applies\": false"), std::string::npos);
   EXPECT_NE(json.out.find("stick-slip"), std::string::npos);

@@ -37,6 +37,8 @@ constexpr int exit_ok = 0;
 constexpr int exit_bad_input = 2;
 constexpr int exit_solver_failed = 3;
 constexpr int exit_out_of_memory = 4;
+// `stability` runs a scenario with dry friction to show its oscillation, up to this long.
+constexpr double max_guide_run_duration = 60.0;  // s simulated
 
 struct PressureUnit {
   const char* name;
@@ -60,6 +62,31 @@ Scenario load_study(const std::string& path) {
   Scenario scenario = load_scenario(path);
   for (const std::string& warning : scenario.warnings) std::cerr << "warning: " << warning << "\n";
   return scenario;
+}
+
+std::string optional_text(const std::optional<double>& v, const char* format) {
+  if (!v) return "none";
+  char buffer[64];
+  std::snprintf(buffer, sizeof buffer, format, *v);
+  return buffer;
+}
+
+// One line per event: the figures that exist, and in words why the others do not.
+void print_event(const EventMetrics& m, const PressureUnit& pu) {
+  std::string line = "  event at " + optional_text(m.time, "%.4g") + " s on " + m.target + ": peak " +
+                     optional_text(m.peak_discharge_pressure * pu.per_pascal, "%.1f") + " " + pu.name;
+  if (m.overshoot_percent) line += ", overshoot " + optional_text(m.overshoot_percent, "%.1f") + " %";
+  if (m.undershoot_percent) line += ", undershoot " + optional_text(m.undershoot_percent, "%.1f") + " %";
+  if (m.settling_time)
+    line += ", settling " + optional_text(*m.settling_time * 1e3, "%.1f") + " ms (band +-" +
+            optional_text(m.band * pu.per_pascal, "%.3g") + " " + pu.name + ")";
+  if (!m.note.empty()) line += ", " + m.note;
+  if (m.swash_response_time)
+    line += ", swash 90 % in " + optional_text(*m.swash_response_time * 1e3, "%.1f") + " ms";
+  else
+    line += ", swash does not move";
+  if (m.swash_travel_time) line += " (10-90 % in " + optional_text(*m.swash_travel_time * 1e3, "%.1f") + " ms)";
+  std::printf("%s\n", line.c_str());
 }
 
 int run_command(const std::string& scenario_path, const std::string& out_dir, const std::string& units_name) {
@@ -107,17 +134,11 @@ int run_command(const std::string& scenario_path, const std::string& out_dir, co
 
   const PressureUnit pu = pressure_unit(*units);
   std::printf("%s: %lld samples written to %s\n", scenario.name.c_str(), samples, out_dir.c_str());
-  if (result.trace_stride > 1)
-    std::printf("note: metrics taken from every %lld-th sample (a long run's trace is thinned in memory)\n",
-                result.trace_stride);
   if (!result.start.converged)
     std::printf("note: no steady state found (the loop may hunt); the run starts from the state reached after %.3g s\n",
                 result.start.simulated_time);
   std::printf("peak discharge pressure %.1f %s\n", result.peak_discharge_pressure * pu.per_pascal, pu.name);
-  for (const EventMetrics& m : metrics)
-    std::printf("  event at %.4g s on %s: peak %.1f %s, overshoot %.1f %%, settling %.1f ms, swash 90 %% in %.1f ms\n",
-                m.time, m.target.c_str(), m.peak_discharge_pressure * pu.per_pascal, pu.name, m.overshoot_percent,
-                m.settling_time * 1e3, m.swash_response_time * 1e3);
+  for (const EventMetrics& m : metrics) print_event(m, pu);
   const Sample& last = result.final_sample;
   std::printf("final: %.1f %s, pump flow %.2f L/min, swash %.3f deg\n",
               last.x[state::discharge_pressure] * pu.per_pascal, pu.name, last.pump_flow * 6e4,
@@ -145,13 +166,6 @@ int check_command(const std::string& scenario_path, bool json) {
                   std::string(spec.unit).c_str(), spec.get(defaults));
   }
   return exit_ok;
-}
-
-std::string optional_text(const std::optional<double>& v, const char* format) {
-  if (!v) return "none";
-  char buffer[64];
-  std::snprintf(buffer, sizeof buffer, format, *v);
-  return buffer;
 }
 
 ModelParameters with_opening(const Scenario& scenario, const std::optional<double>& opening) {
@@ -245,11 +259,36 @@ int stability_command(const std::string& scenario_path, const std::optional<doub
   if (!bode_path.empty())
     write_file_atomically(bode_path,
                           bode_csv(loop_bode(report.model, margin_search_low_hz, margin_search_high_hz, 601)));
+  // With dry friction no linear model describes what the pump does: a run of
+  // the scenario's events, read by the oscillation analysis, is the guide.
+  const bool run_guide =
+      report.dry_friction && !scenario.events.empty() && scenario.settings.duration <= max_guide_run_duration;
+  std::vector<EventMetrics> guide;
+  if (run_guide) {
+    RunOptions options;
+    options.max_trace_samples = 1024;
+    guide = event_metrics(scenario, run_scenario(scenario, options));
+  }
   if (json) {
-    std::cout << stability_json(report);
+    std::cout << stability_json(report, run_guide ? &guide : nullptr);
     return exit_ok;
   }
   print_stability(report, *units);
+  if (run_guide) {
+    const PressureUnit pu = pressure_unit(*units);
+    std::printf("The run of this scenario's events (the better guide with dry friction):\n");
+    for (const EventMetrics& m : guide) {
+      const OscillationReport& o = m.oscillation;
+      std::printf("  event at %.4g s on %s: %s", m.time, m.target.c_str(), to_string(o.kind));
+      if (o.kind != OscillationKind::settled)
+        std::printf(" at %.4g Hz, %.3g %s peak to peak", o.frequency_hz, o.peak_to_peak * pu.per_pascal, pu.name);
+      std::printf("%s%s\n", m.note.empty() ? "" : "; ", m.note.c_str());
+    }
+  } else if (report.dry_friction) {
+    std::printf(
+        "Run the scenario (swashtune-cli run) and read each event's oscillation: with dry friction that is the "
+        "better guide.\n");
+  }
   std::printf("%s\n", safety_notice_short);
   return exit_ok;
 }

@@ -19,93 +19,73 @@ double trace_value_at(const std::vector<Sample>& trace, double t, double (*colum
 
 namespace {
 
-// Below this a pressure step is too small to speak of overshoot (interfaces.md).
-constexpr double minimum_pressure_change = 1e4;  // Pa
+// The settling band of interfaces.md: 2 % of the step's own change, with a
+// floor of 0.2 % of the final value.
+constexpr double band_of_change = 0.02;
+constexpr double band_of_final = 0.002;
+// A swash change below this fraction of the full-stroke angle is no motion.
+constexpr double least_swash_change = 0.01;
+// The stretch at a window's end over which the pressure must move less than
+// the band's width to count as settled (a slow creep the oscillation analysis
+// cannot call an oscillation).
+constexpr double end_stretch = 0.05;
 
-double settling_time(const std::vector<Sample>& trace, double start, double end, double final_value, double band) {
-  // The last sample outside the band; settled from the next one on.
-  double settled_at = start;
-  for (std::size_t i = 0; i < trace.size(); ++i) {
-    const Sample& s = trace[i];
-    if (s.time < start || s.time > end) continue;
-    if (std::abs(discharge_pressure_of(s) - final_value) > band)
-      settled_at = i + 1 < trace.size() ? std::min(trace[i + 1].time, end) : end;
-  }
-  return settled_at - start;
-}
-
-double response_time(const std::vector<Sample>& trace, double start, double end, double initial, double final_value,
-                     double threshold) {
-  const double change = final_value - initial;
-  if (std::abs(change) < threshold) return 0.0;
-  double previous_time = start, previous_fraction = 0.0;
-  for (const Sample& s : trace) {
-    if (s.time < start || s.time > end) continue;
-    const double fraction = (swash_angle_of(s) - initial) / change;
-    if (fraction >= 0.9) {
-      if (fraction == previous_fraction) return s.time - start;
-      // Interpolate the 90 % crossing between samples.
-      const double f = (0.9 - previous_fraction) / (fraction - previous_fraction);
-      return std::max(0.0, previous_time + f * (s.time - previous_time) - start);
-    }
-    previous_time = s.time;
-    previous_fraction = fraction;
-  }
-  return end - start;
-}
-
-OscillationReport window_oscillation(const std::vector<Sample>& trace, double start, double end,
-                                     const OscillationOptions& options) {
-  std::vector<double> t, p;
-  for (const Sample& s : trace)
-    if (s.time >= start && s.time <= end) {
-      t.push_back(s.time);
-      p.push_back(discharge_pressure_of(s));
-    }
-  if (t.size() < 16) return OscillationReport{};  // too short a window to say anything
-  return analyse_oscillation(t, p, std::nullopt, std::nullopt, options);
-}
+bool oscillating(const OscillationReport& o) { return o.kind != OscillationKind::settled; }
 
 }  // namespace
-
-OscillationOptions window_oscillation_options(const ModelParameters& p, double /*window*/) {
-  OscillationOptions o;
-  o.skip_fraction = 0.02;
-  o.amplitude_floor = 1e-3 * std::max(p.setting, 1e6);
-  return o;
-}
 
 std::vector<EventMetrics> event_metrics(const Scenario& scenario, const RunResult& result) {
   std::vector<EventMetrics> out;
   const auto& events = scenario.events;
-  const auto& trace = result.trace;
   for (std::size_t i = 0; i < events.size(); ++i) {
-    const double start = events[i].at;
-    const double end = i + 1 < events.size() ? events[i + 1].at : scenario.settings.duration;
     EventMetrics m;
-    m.time = start;
+    m.time = events[i].at;
     m.target = events[i].target;
-    // Exact values at the window's ends where the run recorded them (a
-    // thinned trace would blur them), else from the trace.
-    auto at = [&](const std::vector<State>& states, double t, int index, double (*column)(const Sample&)) {
-      const double exact = i < states.size() ? states[i][index] : std::nan("");
-      return std::isfinite(exact) ? exact : trace_value_at(trace, t, column);
-    };
-    const double initial = at(result.window_start_state, start, state::discharge_pressure, discharge_pressure_of);
-    const double final_value = at(result.window_end_state, end, state::discharge_pressure, discharge_pressure_of);
-    const double change = final_value - initial;
-    m.peak_discharge_pressure = i < result.window_peaks.size() ? result.window_peaks[i] : initial;
-    const double minimum = i < result.window_minima.size() ? result.window_minima[i] : initial;
-    if (change >= minimum_pressure_change)
-      m.overshoot_percent = 100.0 * (m.peak_discharge_pressure - final_value) / change;
-    else if (change <= -minimum_pressure_change)
-      m.overshoot_percent = 100.0 * (final_value - minimum) / (-change);
-    const double band = 0.02 * std::max(std::abs(final_value), std::abs(change));
-    m.settling_time = settling_time(trace, start, end, final_value, band);
-    const double a0 = at(result.window_start_state, start, state::swash_angle, swash_angle_of);
-    const double a1 = at(result.window_end_state, end, state::swash_angle, swash_angle_of);
-    m.swash_response_time = response_time(trace, start, end, a0, a1, 1e-3 * scenario.parameters.max_swash_angle);
-    m.oscillation = window_oscillation(trace, start, end, window_oscillation_options(scenario.parameters, end - start));
+    m.window_end = i + 1 < events.size() ? events[i + 1].at : scenario.settings.duration;
+    if (i >= result.windows.size() || !result.windows[i].observed()) {
+      out.push_back(m);
+      continue;
+    }
+    const EventWindow& w = result.windows[i];
+    m.initial_discharge_pressure = w.initial_pressure();
+    m.final_discharge_pressure = w.final_pressure();
+    m.change = m.final_discharge_pressure - m.initial_discharge_pressure;
+    m.band = std::max(band_of_change * std::abs(m.change), band_of_final * std::abs(m.final_discharge_pressure));
+    m.peak_discharge_pressure = w.peak_pressure();
+    m.oscillation = w.oscillation();
+    m.oscillation_from = w.oscillation_from();
+    m.oscillation_to = w.oscillation_to();
+
+    if (std::abs(m.change) < m.band || m.band == 0.0) {
+      m.note = note_no_change;  // nothing measurable happened: no figures
+    } else {
+      if (m.change > 0.0)
+        m.overshoot_percent = 100.0 * (m.peak_discharge_pressure - m.final_discharge_pressure) / m.change;
+      else
+        m.undershoot_percent = 100.0 * (m.final_discharge_pressure - w.lowest_pressure()) / (-m.change);
+      // Settled means staying within the band to the window's end; an
+      // oscillation at the end larger than the band never does.
+      const double window = w.end() - w.start();
+      const bool large = m.oscillation.peak_to_peak > 2.0 * m.band;
+      if (m.oscillation.kind == OscillationKind::sustained && large) {
+        m.note = note_hunting;
+      } else if ((oscillating(m.oscillation) && large) ||
+                 w.pressure_span_after(w.end() - end_stretch * window) > 2.0 * m.band) {
+        m.note = note_not_settled;
+      } else {
+        m.settling_time =
+            w.settled_from(m.final_discharge_pressure - m.band, m.final_discharge_pressure + m.band) - w.start();
+      }
+    }
+
+    // The swash: 10 % and 90 % of its change over the window, first reached.
+    const double a0 = w.initial_angle(), a1 = w.final_angle(), swing = a1 - a0;
+    if (std::abs(swing) >= least_swash_change * scenario.parameters.max_swash_angle) {
+      const auto t10 = w.angle_first_reaching(a0 + 0.1 * swing, swing > 0.0);
+      const auto t90 = w.angle_first_reaching(a0 + 0.9 * swing, swing > 0.0);
+      if (t90) m.swash_response_time = *t90 - w.start();
+      if (t10 && t90) m.swash_travel_time = *t90 - *t10;
+    }
     out.push_back(m);
   }
   return out;

@@ -111,6 +111,10 @@ std::string json_number(double value) {
 
 std::string json_string(std::string_view text) { return detail::string_literal(text); }
 
+namespace {
+std::string optional_json(const std::optional<double>& v) { return v ? json_number(*v) : "null"; }
+}  // namespace
+
 std::string oscillation_json(const OscillationReport& r) {
   std::ostringstream o;
   o << "{ \"kind\": " << json_string(to_string(r.kind)) << ", \"frequency_Hz\": " << json_number(r.frequency_hz)
@@ -128,7 +132,7 @@ std::string summary_json(const Scenario& scenario, const RunResult& result, cons
   o << "{\n";
   o << "  \"scenario\": " << json_string(scenario.name) << ",\n";
   o << "  \"peak_discharge_pressure_Pa\": " << json_number(result.peak_discharge_pressure) << ",\n";
-  o << "  \"trace_stride_for_metrics\": " << result.trace_stride << ",\n";
+  o << "  \"trace_stride_in_memory\": " << result.trace_stride << ",\n";
   o << "  \"final\": {\n";
   o << "    \"time_s\": " << json_number(last.time) << ",\n";
   o << "    \"discharge_pressure_Pa\": " << json_number(last.x[state::discharge_pressure]) << ",\n";
@@ -142,10 +146,18 @@ std::string summary_json(const Scenario& scenario, const RunResult& result, cons
     o << (i ? ",\n" : "\n");
     o << "    { \"time_s\": " << json_number(e.time) << ", \"target\": " << json_string(e.target)
       << ", \"peak_discharge_pressure_Pa\": " << json_number(e.peak_discharge_pressure)
-      << ", \"overshoot_percent\": " << json_number(e.overshoot_percent)
-      << ", \"settling_time_s\": " << json_number(e.settling_time)
-      << ", \"swash_response_time_s\": " << json_number(e.swash_response_time)
-      << ",\n      \"oscillation\": " << oscillation_json(e.oscillation) << " }";
+      << ", \"overshoot_percent\": " << optional_json(e.overshoot_percent)
+      << ", \"undershoot_percent\": " << optional_json(e.undershoot_percent)
+      << ", \"settling_time_s\": " << optional_json(e.settling_time)
+      << ", \"swash_response_time_s\": " << optional_json(e.swash_response_time)
+      << ", \"swash_travel_time_s\": " << optional_json(e.swash_travel_time)
+      << ",\n      \"note\": " << json_string(e.note) << ", \"window_end_s\": " << json_number(e.window_end)
+      << ", \"initial_discharge_pressure_Pa\": " << json_number(e.initial_discharge_pressure)
+      << ", \"final_discharge_pressure_Pa\": " << json_number(e.final_discharge_pressure)
+      << ", \"settling_band_Pa\": " << json_number(e.band)
+      << ",\n      \"oscillation\": " << oscillation_json(e.oscillation)
+      << ", \"oscillation_from_s\": " << json_number(e.oscillation_from)
+      << ", \"oscillation_to_s\": " << json_number(e.oscillation_to) << " }";
   }
   o << (events.empty() ? "],\n" : "\n  ],\n");
   o << "  \"initial_state\": {\n";
@@ -191,7 +203,7 @@ std::string json_mode(const Mode& m) {
 
 }  // namespace
 
-std::string stability_json(const StabilityReport& r) {
+std::string stability_json(const StabilityReport& r, const std::vector<EventMetrics>* run_guide) {
   const State& x = r.operating_point.condition.x;
   const StopModes& modes = r.operating_point.condition.modes;
   std::ostringstream o;
@@ -245,6 +257,16 @@ std::string stability_json(const StabilityReport& r) {
     o << (i ? ",\n    " : "\n    ") << json_string(r.explanation[i]);
   o << (r.explanation.empty() ? "],\n" : "\n  ],\n");
   o << "  \"stable\": " << (r.stable ? "true" : "false") << ",\n";
+  if (run_guide) {
+    o << "  \"run_oscillation\": [";
+    for (std::size_t i = 0; i < run_guide->size(); ++i) {
+      const EventMetrics& e = (*run_guide)[i];
+      o << (i ? ",\n    " : "\n    ") << "{ \"time_s\": " << json_number(e.time)
+        << ", \"target\": " << json_string(e.target) << ", \"note\": " << json_string(e.note)
+        << ", \"oscillation\": " << oscillation_json(e.oscillation) << " }";
+    }
+    o << (run_guide->empty() ? "],\n" : "\n  ],\n");
+  }
   const LinearModel& m = r.model;
   o << "  \"linear_model\": {\n    \"states\": [";
   for (std::size_t i = 0; i < m.states.size(); ++i) o << (i ? ", " : "") << json_string(state_name(m.states[i]));

@@ -393,31 +393,30 @@ RunResult run_scenario(const Scenario& scenario, const RunOptions& options) {
 
   const double duration = scenario.settings.duration;
   const std::size_t windows = scenario.events.size();
-  result.window_peaks.assign(windows, -infinity);
-  result.window_minima.assign(windows, infinity);
-  result.window_start_state.assign(
-      windows, State::Constant(layout_of(scenario.parameters).size, std::numeric_limits<double>::quiet_NaN()));
-  result.window_end_state = result.window_start_state;
-  auto window_end = [&](std::size_t i) { return i + 1 < windows ? scenario.events[i + 1].at : duration; };
-  auto observe = [&](double t, const State& x) {
-    const double pd = x[state::discharge_pressure];
+  const State scale = state_scale(scenario.parameters);
+  const OscillationOptions oscillation = window_oscillation_options(scenario.parameters);
+  for (std::size_t i = 0; i < windows; ++i)
+    result.windows.emplace_back(scenario.events[i].at, i + 1 < windows ? scenario.events[i + 1].at : duration,
+                                scale[state::discharge_pressure], scenario.parameters.max_swash_angle, oscillation);
+  // Windows follow one another, so the ones a time falls in are contiguous;
+  // a window is finished once a step has passed its end (samples may land a
+  // rounding error past a step's end, before the step itself is observed).
+  std::size_t open = 0;
+  auto observe = [&](double t, double pd, double angle, bool sample) {
     result.peak_discharge_pressure = std::max(result.peak_discharge_pressure, pd);
-    for (std::size_t i = 0; i < windows; ++i)
-      if (t >= scenario.events[i].at && t <= window_end(i)) {
-        result.window_peaks[i] = std::max(result.window_peaks[i], pd);
-        result.window_minima[i] = std::min(result.window_minima[i], pd);
-        if (t == scenario.events[i].at) result.window_start_state[i] = x;
-        if (t == window_end(i)) result.window_end_state[i] = x;
-      }
+    while (open < windows && !sample && result.windows[open].end() < t) result.windows[open++].finish();
+    for (std::size_t k = open; k < windows && result.windows[k].start() <= t; ++k)
+      result.windows[k].observe(t, pd, angle, sample);
   };
-  sim.set_step_observer(observe);
+  sim.set_step_observer(
+      [&](double t, const State& x) { observe(t, x[state::discharge_pressure], x[state::swash_angle], false); });
   result.peak_discharge_pressure = -infinity;
   const std::size_t expected = static_cast<std::size_t>(duration / scenario.settings.sample_interval) + 2;
   const std::size_t limit = options.max_trace_samples;
   result.trace.reserve(limit > 0 ? std::min(expected, 2 * limit) : expected);
   long long index = 0;
   sim.advance_to(duration, [&](const Sample& s) {
-    observe(s.time, s.x);
+    observe(s.time, s.x[state::discharge_pressure], s.x[state::swash_angle], true);
     if (options.stream) options.stream(s);
     result.final_sample = s;
     if (index++ % result.trace_stride != 0) return;
@@ -430,6 +429,8 @@ RunResult run_scenario(const Scenario& scenario, const RunOptions& options) {
       result.trace_stride *= 2;
     }
   });
+  for (std::size_t k = open; k < windows; ++k) result.windows[k].finish();
+  for (std::size_t k = open; k < windows; ++k) result.windows[k].finish();
   result.stats = sim.stats();
   return result;
 }

@@ -1,6 +1,10 @@
-// Transient figures of a run, per event window, as interfaces.md defines them.
+// Transient figures of a run, per event window, as interfaces.md ("Event
+// metrics v2") defines them. They come from every solver step and every
+// sample of the run (RunResult::windows), not from the kept trace, so the
+// same event gives the same figures in a short run and a long one.
 #pragma once
 
+#include <optional>
 #include <string>
 #include <vector>
 
@@ -11,22 +15,32 @@
 namespace swashtune {
 
 struct EventMetrics {
-  double time = 0.0;  // s, when the event starts
+  double time = 0.0;        // s, when the event starts
+  double window_end = 0.0;  // s, the next event or the end of the run
   std::string target;
-  double peak_discharge_pressure = 0.0;  // Pa, highest in the window
-  double overshoot_percent = 0.0;        // swing past the new level, % of the step
-  double settling_time = 0.0;            // s after the event, +-2 % band
-  double swash_response_time = 0.0;      // s after the event, 90 % of the swash change
-  OscillationReport oscillation;         // of the discharge pressure over the window
+  double peak_discharge_pressure = 0.0;     // Pa, highest in the window
+  double initial_discharge_pressure = 0.0;  // Pa, at the event
+  double final_discharge_pressure = 0.0;    // Pa, at the window's end
+  double change = 0.0;                      // final - initial, Pa
+  double band = 0.0;                        // max(0.02 |change|, 0.002 |final|), Pa
+  // null (nullopt) where interfaces.md says so:
+  std::optional<double> overshoot_percent;    // a rise: swing past the new level, % of the step
+  std::optional<double> undershoot_percent;   // a fall: swing below the new level
+  std::optional<double> settling_time;        // s after the event until within +-band to the end
+  std::optional<double> swash_response_time;  // s after the event until 90 % of the swash change
+  std::optional<double> swash_travel_time;    // s from 10 % to 90 % of the swash change
+  // "no change", "does not settle: hunting", "does not settle within the
+  // window", or empty.
+  std::string note;
+  OscillationReport oscillation;                        // of the discharge pressure (see EventWindow::oscillation)
+  double oscillation_from = 0.0, oscillation_to = 0.0;  // s, the stretch it was taken over
 };
 
-// How an event window's pressure is examined for oscillation: the first 5 %
-// (the event itself) is skipped; swings below 0.1 % of the setting count as
-// none (a simulated trace has no measurement noise to set that floor).
-OscillationOptions window_oscillation_options(const ModelParameters& p, double window);
+inline constexpr const char* note_no_change = "no change";
+inline constexpr const char* note_hunting = "does not settle: hunting";
+inline constexpr const char* note_not_settled = "does not settle within the window";
 
-// Window i runs from event i to event i+1 (or the end of the run). Peaks and
-// minima come from every solver step (RunResult), the rest from the trace.
+// Window i runs from event i to event i+1 (or the end of the run).
 std::vector<EventMetrics> event_metrics(const Scenario& scenario, const RunResult& result);
 
 // Linear interpolation of one trace column at time t (clamped to the trace).

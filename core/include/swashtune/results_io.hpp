@@ -62,7 +62,10 @@ std::string summary_json(const Scenario& scenario, const RunResult& result, cons
 
 // Analysis results as JSON (interfaces.md's keys first, SI units), with the
 // open-loop realisation (A, B, C) so that outside tools can check the figures.
-std::string stability_json(const StabilityReport& report);
+// `run_guide`: the event metrics of a run of the scenario, given where a
+// linear model does not describe the loop (dry friction); written as
+// "run_oscillation".
+std::string stability_json(const StabilityReport& report, const std::vector<EventMetrics>* run_guide = nullptr);
 std::string characteristic_json(const Characteristic& characteristic);
 std::string stability_map_json(const StabilityMap& map);
 // Bode data of the loop transfer L(jw): frequency_Hz, magnitude_dB, phase_deg.

@@ -10,6 +10,7 @@
 #include <string>
 #include <vector>
 
+#include "swashtune/event_window.hpp"
 #include "swashtune/model.hpp"
 #include "swashtune/scenario.hpp"
 #include "swashtune/schedule.hpp"
@@ -136,11 +137,10 @@ struct RunResult {
   OperatingPoint start;
   SolverStats stats;  // of the run itself, without finding the start
   double peak_discharge_pressure = 0.0;
-  std::vector<double> window_peaks;   // one per event, over [at, next event or end]
-  std::vector<double> window_minima;  // likewise, the lowest discharge pressure
-  // Discharge pressure and swash angle exactly at each window's start and
-  // end (solver steps end on event times), whatever the trace's stride.
-  std::vector<State> window_start_state, window_end_state;
+  // One per event, over [at, next event or end]: what its transient figures
+  // need, taken from every solver step and every sample (before the kept
+  // trace is thinned), in bounded memory (event_window.hpp).
+  std::vector<EventWindow> windows;
 };
 // For long runs: every sample can be streamed out (to a file) while the
 // trace kept in memory is thinned to at most about max_trace_samples, by
