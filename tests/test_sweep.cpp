@@ -136,8 +136,9 @@ TEST_F(Sweep, GridTableHasOneSortedRowPerPointFirstAxisFastest) {
   ASSERT_EQ(lines.size(), 1u + 6u);
   EXPECT_EQ(lines[0],
             "index,compensator.setting,line.volume,peak_discharge_pressure_Pa,final_discharge_pressure_Pa,"
-            "overshoot_percent,settling_time_s,swash_response_time_s,oscillation,oscillation_frequency_Hz,"
-            "gain_margin_dB,phase_margin_deg,dominant_frequency_Hz,dominant_damping_ratio,stable,status");
+            "overshoot_percent,undershoot_percent,settling_time_s,swash_response_time_s,swash_travel_time_s,"
+            "event_note,oscillation,oscillation_frequency_Hz,margin_opening,margins_apply,gain_margin_dB,"
+            "phase_margin_deg,modulus_margin,dominant_frequency_Hz,dominant_damping_ratio,stable,status");
   const double settings[] = {180e5, 210e5}, volumes[] = {0.5e-3, 1e-3, 1.5e-3};
   for (std::size_t i = 0; i < 6; ++i) {
     const auto f = split(lines[i + 1], ',');
@@ -176,7 +177,55 @@ TEST_F(Sweep, RowsHoldWhatRunAndStabilityReport) {
   ASSERT_EQ(st.exit_code, 0) << st.err;
   EXPECT_TRUE(near(field(openings[1], gm), json_value(st.out, "gain_margin_dB")));
   EXPECT_TRUE(near(field(openings[1], pm), json_value(st.out, "phase_margin_deg")));
+  EXPECT_TRUE(near(field(openings[1], column(openings[0], "modulus_margin")), json_value(st.out, "modulus_margin")));
   EXPECT_EQ(split(openings[1], ',').at(column(openings[0], "stable")), "true");
+  EXPECT_EQ(split(openings[1], ',').at(column(openings[0], "margins_apply")), "true");
+  EXPECT_EQ(split(openings[2], ',').at(column(openings[0], "margins_apply")), "false");
+}
+
+// A slam study starts at full stroke, where the loop is inactive: --opening
+// takes the margins at a load opening instead, and those are stability's;
+// where they do not apply (an inner loop unstable by itself) the columns stay
+// empty, so sorting by margin cannot pick such a design.
+TEST_F(Sweep, OpeningTakesTheMarginsThereAndOnlyWhereTheyApply) {
+  const auto start = lines_of(sweep("--vary \"line.volume=0.25 L:1 L:2\"", "start.csv"));
+  ASSERT_EQ(start.size(), 3u);
+  const std::size_t gm = column(start[0], "gain_margin_dB"), applies = column(start[0], "margins_apply"),
+                    opening = column(start[0], "margin_opening");
+  for (int i = 1; i <= 2; ++i) {
+    EXPECT_EQ(split(start[i], ',').at(gm), "");
+    EXPECT_EQ(split(start[i], ',').at(opening), "1");
+  }
+  const Outcome plain = cli("sweep " + scenario_ + " --vary \"line.volume=0.25 L:1 L:2\" --out " + path("again.csv"));
+  EXPECT_NE(plain.out.find("--opening"), std::string::npos) << plain.out;  // the note says how to get margins
+
+  const std::string table =
+      sweep("--vary \"line.volume=0.25 L:1 L:2\" --vary compensator.spool_damping=8:20:2 --opening 0", "deadhead.csv");
+  const auto rows = lines_of(table);
+  ASSERT_EQ(rows.size(), 5u);
+  const std::size_t gm2 = column(rows[0], "gain_margin_dB"), applies2 = column(rows[0], "margins_apply"),
+                    opening2 = column(rows[0], "margin_opening");
+  for (std::size_t i = 1; i < rows.size(); ++i) {
+    const auto f = split(rows[i], ',');
+    EXPECT_EQ(f.at(opening2), "0");
+    if (f.at(applies2) == "true") {
+      EXPECT_NE(f.at(gm2), "") << rows[i];
+    } else {
+      EXPECT_EQ(f.at(gm2), "") << rows[i];
+    }
+  }
+  // The hunting demo's design (0.25 L, 8 N s/m) has an inner loop unstable by itself: no margins in its row.
+  EXPECT_EQ(split(rows[1], ',').at(applies2), "false") << rows[1];
+  EXPECT_EQ(split(rows[1], ',').at(column(rows[0], "stable")), "false");
+
+  // --resume refuses a table whose margins were taken at another opening.
+  const Outcome other = cli("sweep " + scenario_ +
+                            " --vary \"line.volume=0.25 L:1 L:2\" --vary compensator.spool_damping=8:20:2 --opening 0.1"
+                            " --resume --out " +
+                            path("deadhead.csv"));
+  EXPECT_EQ(other.exit_code, 2);
+  EXPECT_NE(other.err.find("another --opening"), std::string::npos) << other.err;
+  EXPECT_EQ(cli("sweep " + scenario_ + " --vary line.volume=1:2:2 --opening 2 --out " + path("bad.csv")).exit_code, 2);
 }
 
 TEST_F(Sweep, MergedShardsEqualTheUnshardedSweepByteForByte) {
@@ -336,9 +385,10 @@ TEST(SweepRow, FailedRowQuotesItsStatusAndReadsBack) {
   row.values = {0.1, 1.0 / 3.0};
   row.status = "solver failed at t = 0.1 s: the step size collapsed (1e-20 s, \"spool\")";
   const std::string line = swashtune::sweep_csv_line(row);
-  EXPECT_EQ(line,
-            "17,0.1,0.3333333333333333,,,,,,,,,,,,,\"solver failed at t = 0.1 s: the step size collapsed (1e-20 s, "
-            "\"\"spool\"\")\"\n");
+  EXPECT_EQ(
+      line,
+      "17,0.1,0.3333333333333333,,,,,,,,,,,,,,,,,,,\"solver failed at t = 0.1 s: the step size collapsed (1e-20 s, "
+      "\"\"spool\"\")\"\n");
   const swashtune::SweepTable table = swashtune::parse_sweep_table("index,a,b\n" + line, "t.csv");
   ASSERT_EQ(table.rows.size(), 1u);
   EXPECT_EQ(table.rows[0].index, 17u);

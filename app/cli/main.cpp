@@ -426,10 +426,11 @@ struct SweepCommand {
   std::uint64_t seed = 1;
   int jobs = 1;
   bool resume = false;
+  std::optional<double> opening;  // where the margins are taken
 };
 
 Sweep make_sweep(const SweepCommand& c) {
-  return make_sweep(load_study(c.scenario_path), c.vary, c.samples, c.seed);
+  return make_sweep(load_study(c.scenario_path), c.vary, c.samples, c.seed, c.opening);
 }
 
 // Rows go to the file as they finish, each flushed, so that a sweep stopped
@@ -480,11 +481,12 @@ int sweep_command(const SweepCommand& c) {
 
     const bool terminal = ::isatty(::fileno(stderr)) != 0;  // progress only where a person watches
     const auto started = std::chrono::steady_clock::now();
-    std::size_t computed = 0, failed = 0;
+    std::size_t computed = 0, failed = 0, without_margins = 0;
     run_sweep(sweep, pending, c.jobs, [&](const SweepRow& row) {
       put(sweep_csv_line(row));
       ++computed;
       if (row.status != "ok") ++failed;
+      if (row.status == "ok" && !row.margins_apply.value_or(false)) ++without_margins;
       if (terminal) {
         const double seconds = std::chrono::duration<double>(std::chrono::steady_clock::now() - started).count();
         std::fprintf(stderr, "\rsweep: %zu/%zu points, %.1f points/s   ", done.size() + computed, indices.size(),
@@ -514,6 +516,13 @@ int sweep_command(const SweepCommand& c) {
     std::printf(", %zu computed in %.3g s (%.3g points/s on %d thread%s)\n", computed, seconds,
                 computed / std::max(seconds, 1e-9), c.jobs, c.jobs == 1 ? "" : "s");
     if (failed > 0) std::printf("note: %zu point(s) failed; their status column says why\n", failed);
+    if (without_margins > 0)
+      std::printf(
+          "note: at %zu point(s) the margins do not apply (margins_apply false: the swashplate on a stop, "
+          "an inner loop unstable by itself, or dry friction; `stability` says which), so their margin "
+          "columns are empty%s\n",
+          without_margins,
+          c.opening ? "" : "; --opening S takes the margins at load opening S instead of the starting one");
     std::printf("%s\n", safety_notice_short);
     return exit_ok;
   } catch (const SweepError& e) {
@@ -651,6 +660,8 @@ int main(int argc, char** argv) {
       ->capture_default_str();
   sweep->add_option("--shard", sweep_options.shard, "Only points with index % N == K-1 (K/N, 1-based), e.g. 3/16");
   sweep->add_flag("--resume", sweep_options.resume, "Continue the sweep in --out: keep its rows, compute the rest");
+  sweep->add_option("--opening", sweep_options.opening,
+                    "Take the loop margins at this load opening 0..1 (default: each point's starting opening)");
   sweep->add_option("--out", sweep_options.out_path, "CSV table written row by row, sorted by index when done")
       ->required();
 

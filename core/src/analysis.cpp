@@ -704,8 +704,15 @@ std::vector<std::string> explain_stability(const StabilityReport& r) {
           format("It can take %.1f deg more phase lag at %.4g Hz before it hunts: an extra delay of "
                  "%.3g ms in the loop would be enough.",
                  pm, hz, pm / (360.0 * hz) * 1e3));
-    else
+    else if (!r.stable)
       lines.push_back(format("It is %.1f deg short of phase at %.4g Hz, where the loop gain is 1.", -pm, hz));
+    else
+      lines.push_back(
+          format("The loop gain is 1 at %.4g Hz with the phase %.1f deg past -180 deg: the response passes "
+                 "round the critical point there, not through it, so the loop is stable only "
+                 "conditionally (%.1f deg more phase lead, or %.1f deg more lag, at that frequency would "
+                 "make it hunt).",
+                 hz, -pm, -pm, 360.0 + pm));
   } else {
     const bool below = std::abs(r.model.loop_transfer(margin_search_low_hz)) < 1.0;
     lines.push_back(below ? "The loop gain stays below 1 between 0.1 Hz and 100 kHz: no phase margin to quote."

@@ -68,6 +68,44 @@ std::size_t parse_index(const std::string& field, const std::string& where) {
   return index;
 }
 
+// Field `column` (0-based) of a CSV line as written by csv_field: quoted
+// fields may hold commas and doubled quotes.
+std::string csv_field_at(const std::string& line, std::size_t column) {
+  std::string field;
+  std::size_t current = 0;
+  bool quoted = false;
+  for (std::size_t i = 0; i < line.size(); ++i) {
+    const char c = line[i];
+    if (quoted) {
+      if (c == '"' && i + 1 < line.size() && line[i + 1] == '"') {
+        if (current == column) field += '"';
+        ++i;
+      } else if (c == '"') {
+        quoted = false;
+      } else if (current == column) {
+        field += c;
+      }
+    } else if (c == '"') {
+      quoted = true;
+    } else if (c == ',') {
+      if (current == column) return field;
+      ++current;
+    } else if (current == column) {
+      field += c;
+    }
+  }
+  return current == column ? field : std::string();
+}
+
+// The load opening the margins of point `index` are taken at.
+double margin_opening_of(const Sweep& sweep, std::size_t index) {
+  if (sweep.margin_opening()) return *sweep.margin_opening();
+  ModelParameters p = sweep.base().parameters;
+  const std::vector<double> v = sweep.values(index);
+  for (std::size_t k = 0; k < v.size(); ++k) sweep.keys()[k]->set(p, v[k]);
+  return p.opening;
+}
+
 // A point that cannot be computed is a result of the sweep, not the end of
 // it: the row keeps its index and values, its figures stay empty.
 SweepRow failed_row(const SweepRow& row, const std::string& status) {
@@ -173,17 +211,27 @@ Scenario Sweep::scenario_at(std::size_t index) const {
 }
 
 Sweep make_sweep(const Scenario& base, const std::vector<std::string>& vary, const std::optional<std::size_t>& samples,
-                 std::uint64_t seed) {
+                 std::uint64_t seed, const std::optional<double>& margin_opening) {
   if (vary.empty())
     throw SweepError("give what to vary: --vary KEY=FROM:TO:N (a grid), or --vary KEY=FROM:TO with --samples N");
+  Sweep sweep;
   if (samples) {
     std::vector<SweepRange> ranges;
     for (const std::string& text : vary) ranges.push_back(parse_sweep_range(text));
-    return Sweep::latin_hypercube(base, ranges, *samples, seed);
+    sweep = Sweep::latin_hypercube(base, ranges, *samples, seed);
+  } else {
+    std::vector<Axis> axes;
+    for (const std::string& text : vary) axes.push_back(parse_sweep_axis(text));
+    sweep = Sweep::grid(base, axes);
   }
-  std::vector<Axis> axes;
-  for (const std::string& text : vary) axes.push_back(parse_sweep_axis(text));
-  return Sweep::grid(base, axes);
+  sweep.set_margin_opening(margin_opening);
+  return sweep;
+}
+
+void Sweep::set_margin_opening(std::optional<double> opening) {
+  if (opening && !(*opening >= 0.0 && *opening <= 1.0))
+    throw SweepError("--opening: must be a load opening from 0 to 1, got " + exact_number(*opening));
+  margin_opening_ = opening;
 }
 
 Shard parse_shard(const std::string& text) {
@@ -212,20 +260,30 @@ SweepRow run_sweep_point(const Sweep& sweep, std::size_t index) {
     options.max_trace_samples = 1024;  // the row needs no trace: the figures come from every step
     const RunResult run = run_scenario(scenario, options);
     const std::vector<EventMetrics> events = event_metrics(scenario, run);
-    const StabilityReport stability = analyse_stability(scenario.parameters, scenario.settings);
+    ModelParameters margin_parameters = scenario.parameters;
+    if (sweep.margin_opening()) margin_parameters.opening = *sweep.margin_opening();
+    const StabilityReport stability = analyse_stability(margin_parameters, scenario.settings);
     row.peak_discharge_pressure = run.peak_discharge_pressure;
     row.final_discharge_pressure = discharge_pressure_of(run.final_sample);  // right even for a thinned trace
     if (!events.empty()) {
       const EventMetrics& first = events.front();
       row.overshoot_percent = first.overshoot_percent;
+      row.undershoot_percent = first.undershoot_percent;
       row.settling_time = first.settling_time;
       row.swash_response_time = first.swash_response_time;
+      row.swash_travel_time = first.swash_travel_time;
+      row.event_note = first.note;
       row.oscillation = to_string(first.oscillation.kind);
       if (first.oscillation.kind != OscillationKind::settled)
         row.oscillation_frequency_hz = first.oscillation.frequency_hz;
     }
-    row.gain_margin_db = stability.margins.gain_margin_db;
-    row.phase_margin_deg = stability.margins.phase_margin_deg;
+    row.margin_opening = margin_parameters.opening;
+    row.margins_apply = stability.margins_apply;
+    if (stability.margins_apply) {
+      row.gain_margin_db = stability.margins.gain_margin_db;
+      row.phase_margin_deg = stability.margins.phase_margin_deg;
+      row.modulus_margin = stability.margins.modulus_margin;
+    }
     if (stability.dominant) {
       row.dominant_frequency_hz = stability.dominant->damped_frequency_hz;
       row.dominant_damping_ratio = stability.dominant->damping_ratio;
@@ -259,22 +317,26 @@ std::string sweep_header(const Sweep& sweep) {
   std::string header = "index";
   for (const ParameterSpec* spec : sweep.keys()) header += "," + std::string(spec->key);
   return header +
-         ",peak_discharge_pressure_Pa,final_discharge_pressure_Pa,overshoot_percent,settling_time_s,"
-         "swash_response_time_s,oscillation,oscillation_frequency_Hz,gain_margin_dB,phase_margin_deg,"
-         "dominant_frequency_Hz,dominant_damping_ratio,stable,status";
+         ",peak_discharge_pressure_Pa,final_discharge_pressure_Pa,overshoot_percent,undershoot_percent,"
+         "settling_time_s,swash_response_time_s,swash_travel_time_s,event_note,oscillation,oscillation_frequency_Hz,"
+         "margin_opening,margins_apply,gain_margin_dB,phase_margin_deg,modulus_margin,dominant_frequency_Hz,"
+         "dominant_damping_ratio,stable,status";
 }
 
 std::string sweep_csv_line(const SweepRow& row) {
+  const auto flag = [](const std::optional<bool>& b) { return std::string(b ? (*b ? "true" : "false") : ""); };
   std::string line = std::to_string(row.index);
   for (double v : row.values) line += "," + exact_number(v);
   for (const auto& v : {row.peak_discharge_pressure, row.final_discharge_pressure, row.overshoot_percent,
-                        row.settling_time, row.swash_response_time})
+                        row.undershoot_percent, row.settling_time, row.swash_response_time, row.swash_travel_time})
     line += "," + optional_number(v);
-  line += "," + csv_field(row.oscillation) + "," + optional_number(row.oscillation_frequency_hz);
-  for (const auto& v :
-       {row.gain_margin_db, row.phase_margin_deg, row.dominant_frequency_hz, row.dominant_damping_ratio})
+  line += "," + csv_field(row.event_note) + "," + csv_field(row.oscillation) + "," +
+          optional_number(row.oscillation_frequency_hz);
+  line += "," + optional_number(row.margin_opening) + "," + flag(row.margins_apply);
+  for (const auto& v : {row.gain_margin_db, row.phase_margin_deg, row.modulus_margin, row.dominant_frequency_hz,
+                        row.dominant_damping_ratio})
     line += "," + optional_number(v);
-  line += "," + std::string(row.stable ? (*row.stable ? "true" : "false") : "");
+  line += "," + flag(row.stable);
   return line + "," + csv_field(row.status) + "\n";
 }
 
@@ -336,6 +398,8 @@ void check_sweep_table(const SweepTable& table, const Sweep& sweep, const Shard&
   if (table.header != header)
     throw SweepError(source + ": its header does not match this sweep:\n  file:  " + table.header +
                      "\n  sweep: " + header);
+  std::size_t opening_column = 0;
+  while (csv_field_at(header, opening_column) != "margin_opening") ++opening_column;  // the header has it
   for (const SweepTable::Line& row : table.rows) {
     const std::string where = source + ": point " + std::to_string(row.index);
     if (row.index >= sweep.size())
@@ -344,6 +408,11 @@ void check_sweep_table(const SweepTable& table, const Sweep& sweep, const Shard&
       throw SweepError(where + " is not in shard " + std::to_string(shard.part) + "/" + std::to_string(shard.count));
     if (sweep_row_values(row, sweep.keys().size(), source) != sweep.values(row.index))
       throw SweepError(where + " has other parameter values than this sweep gives it (other ranges, counts or seed?)");
+    // The margins must be taken at the same load opening (--opening).
+    const std::string opening = csv_field_at(row.text, opening_column);
+    if (!opening.empty() && opening != exact_number(margin_opening_of(sweep, row.index)))
+      throw SweepError(where + " has margins at load opening " + opening + ", this sweep takes them at " +
+                       exact_number(margin_opening_of(sweep, row.index)) + " (another --opening?)");
   }
 }
 

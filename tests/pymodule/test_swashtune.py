@@ -136,7 +136,7 @@ def same_field(text, value, name):
     CLI writes the shortest text that reads back exactly), empty as nan/None."""
     if text == "":
         return value is None or (isinstance(value, float) and math.isnan(value))
-    if name == "stable":
+    if text in ("true", "false"):  # stable, margins_apply
         return value is (text == "true")
     try:
         return float(text) == value

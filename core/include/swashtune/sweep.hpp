@@ -1,6 +1,7 @@
 // Parameter sweeps: one base scenario run at many points of parameter space
 // (a Cartesian grid or a Latin hypercube), each point giving one row of a
-// CSV table: transient figures of the run and loop margins at the start.
+// CSV table: transient figures of the run and loop margins at the point's
+// initial load opening (or at a given one).
 //
 // Every point is computed on its own (no neighbour seeds a solution), so a
 // row depends only on the sweep and its index: the same table comes out
@@ -61,19 +62,27 @@ class Sweep {
   // The base scenario with point `index`'s initial parameters.
   Scenario scenario_at(std::size_t index) const;
 
+  // The load opening the margins are taken at (--opening); none: each
+  // point's initial opening (for a study that starts at full stroke the loop
+  // is then inactive and every margin empty).
+  void set_margin_opening(std::optional<double> opening);
+  const std::optional<double>& margin_opening() const { return margin_opening_; }
+
  private:
   Scenario base_;
   std::vector<const ParameterSpec*> keys_;
   std::size_t size_ = 0;
   std::vector<std::vector<double>> axis_values_;  // grid: per key
   std::vector<double> samples_;                   // hypercube: size_ x keys, row-major
+  std::optional<double> margin_opening_;
 };
 
 // The sweep that `swashtune-cli sweep` runs: the grid of `vary` axes
 // ("KEY=FROM:TO:N"), or with `samples` a Latin hypercube in the `vary` ranges
 // ("KEY=FROM:TO") drawn with `seed`. Throws SweepError or ScenarioError.
+// `margin_opening` as for Sweep::set_margin_opening (checked to be 0..1).
 Sweep make_sweep(const Scenario& base, const std::vector<std::string>& vary, const std::optional<std::size_t>& samples,
-                 std::uint64_t seed);
+                 std::uint64_t seed, const std::optional<double>& margin_opening = std::nullopt);
 
 // Points [index % count == part - 1] of a sweep split into `count` shards.
 struct Shard {
@@ -90,12 +99,17 @@ struct SweepRow {
   std::vector<double> values;
   std::string status = "ok";  // or "solver failed: ...", "failed: ..."
   std::optional<double> peak_discharge_pressure, final_discharge_pressure;
-  // of the first event window
-  std::optional<double> overshoot_percent, settling_time, swash_response_time;
+  // of the first event window (interfaces.md, "Event metrics v2")
+  std::optional<double> overshoot_percent, undershoot_percent, settling_time, swash_response_time, swash_travel_time;
+  std::string event_note;   // "no change", "does not settle: hunting", ...
   std::string oscillation;  // "settled", "settling", ... ("" without events)
   std::optional<double> oscillation_frequency_hz;
-  // loop margins and modes at the point's initial parameters
-  std::optional<double> gain_margin_db, phase_margin_deg, dominant_frequency_hz, dominant_damping_ratio;
+  // loop margins and modes at the point's initial parameters, the load
+  // opening set to margin_opening; the margins only where they apply (a
+  // margin that is not a stability margin is no figure to sort a table by)
+  std::optional<double> margin_opening;
+  std::optional<bool> margins_apply;
+  std::optional<double> gain_margin_db, phase_margin_deg, modulus_margin, dominant_frequency_hz, dominant_damping_ratio;
   std::optional<bool> stable;
 };
 
