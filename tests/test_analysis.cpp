@@ -209,6 +209,11 @@ TEST(StabilityMap, AxesParseWithUnitsAndRefuseBadInput) {
   EXPECT_NEAR(a.values.back(), 2e-3, 1e-15);
   EXPECT_THROW(parse_axis("line.volume=0.5 L:2 L"), ScenarioError);
   EXPECT_THROW(parse_axis("line.volume=0.5 kg:2 L:3"), ScenarioError);
+  // Grid values are the decimals they stand for: no last-bit noise in a map or sweep row.
+  const Axis fine = parse_axis("line.volume=1 L:1.25 L:3");
+  EXPECT_EQ(fine.values, (std::vector<double>{0.001, 0.001125, 0.00125}));
+  const Axis setting = parse_axis("compensator.setting=150 bar:250 bar:11");
+  for (std::size_t i = 0; i < setting.values.size(); ++i) EXPECT_EQ(setting.values[i], (150.0 + 10.0 * i) * 1e5);
   EXPECT_THROW(parse_axis("load.opening=0:2:3"), ScenarioError);  // outside 0..1
   EXPECT_THROW(parse_axis("compensator.flow_forces=0:1:2"), ScenarioError);
   EXPECT_THROW(parse_axis("line.volume=1:2:0"), ScenarioError);

@@ -213,6 +213,43 @@ TEST(LiveSession, SavedAndReplayedGivesTheSameTrace) {
   EXPECT_GT(replay.peak_discharge_pressure, 200e5);  // the session did slam the valve
 }
 
+// A person who takes over a scripted key does not cancel the script: the
+// study's later events on that key still act, and the saved session (with
+// the script's events still to come) replays to the same trace.
+TEST(LiveSession, ScriptGoesOnAfterALiveChangeAndIsSaved) {
+  Scenario s;
+  s.settings.duration = 0.4;
+  s.events = {Event{0.1, "load.opening", 0.0, 0.005, 0}, Event{0.3, "load.opening", 1.0, 0.005, 0}};
+  LiveSession live(s);
+  std::vector<Sample> trace;
+  auto sink = [&](const Sample& x) { trace.push_back(x); };
+  live.advance(0.0523, sink);
+  live.change("load.opening", 0.5, 0.0);  // before the scripted slam
+  live.advance(0.1131, sink);
+  live.change("load.opening", 0.2, 0.0);  // between the two scripted events
+  live.advance(0.0517, sink);
+  const Scenario mid = live.to_scenario();
+  // The script's event at 0.3 s is still to come: kept, and the run lasts as scripted.
+  ASSERT_EQ(mid.events.size(), 4u);
+  EXPECT_EQ(mid.events.back().at, 0.3);
+  EXPECT_EQ(mid.settings.duration, 0.4);
+  live.advance(0.15, sink);  // past 0.3 s: the script reopened the valve
+  EXPECT_EQ(live.parameters_now().opening, 1.0);
+
+  const Scenario saved = parse_scenario(scenario_to_toml(live.to_scenario()), "saved.toml");
+  const RunResult replay = run_scenario(saved);
+  double worst = 0.0;
+  for (const Sample& x : trace)
+    worst = std::max(
+        worst, std::abs(trace_value_at(replay.trace, x.time, discharge_pressure_of) - x.x[state::discharge_pressure]));
+  EXPECT_LT(worst, 1e-3 * s.parameters.setting);  // the integrator's tolerance
+  // The session's clock is on a 0.1 us grid: its times are short decimals.
+  const std::string text = scenario_to_toml(live.to_scenario());
+  EXPECT_NE(text.find("at = 0.0523\n"), std::string::npos) << text;
+  EXPECT_NE(text.find("at = 0.1654\n"), std::string::npos) << text;
+  EXPECT_NE(text.find("duration = 0.3671\n"), std::string::npos) << text;
+}
+
 TEST(LiveSession, ResetReturnsToTheSteadyState) {
   Scenario s;
   LiveSession live(s);

@@ -217,4 +217,21 @@ TEST(Units, DimensionNames) {
   EXPECT_FALSE(dimension_name(Dimension{2, 7, -1}).empty());
 }
 
+// A decimal written with a unit is stored as the double nearest that decimal
+// in SI, so that a file written back shows it as typed (1 L = 1e-3 m^3
+// exactly by definition, NIST SP 811).
+TEST(Units, DecimalsStayDecimalsInStoredUnits) {
+  EXPECT_EQ(convert_to("1.125 L", "m^3"), 0.001125);  // 1.125 * 1e-3 alone gives 0.0011250000000000001
+  EXPECT_EQ(convert_to("0.35 L", "m^3"), 0.00035);
+  EXPECT_EQ(convert_to("8.4 mm", "m"), 0.0084);
+  EXPECT_EQ(convert_to("1500 rpm", "rev/min"), 1500.0);
+  EXPECT_EQ(decimal_clean(1.125 * 1e-3), 0.001125);
+  EXPECT_EQ(decimal_clean(0.1 + 0.2), 0.3);
+  // Real digits beyond the 15th are not noise: they stay.
+  EXPECT_EQ(decimal_clean(1.0 / 3.0), 1.0 / 3.0);
+  EXPECT_EQ(convert_to("15 deg", "rad"), 15.0 * (3.14159265358979323846 / 180.0));
+  EXPECT_EQ(decimal_clean(0.0), 0.0);
+  EXPECT_TRUE(std::isinf(decimal_clean(HUGE_VAL)));
+}
+
 }  // namespace

@@ -815,7 +815,7 @@ Axis parse_axis(const std::string& text) {
   if (count_text.empty() || *end != '\0' || count < 1 || count > 10000)
     throw ScenarioError(where + "N must be a whole number from 1 to 10000, got \"" + count_text + "\"");
   for (long i = 0; i < count; ++i) {
-    const double v = count == 1 ? from : from + (to - from) * static_cast<double>(i) / (count - 1);
+    const double v = count == 1 ? from : decimal_clean(from + (to - from) * static_cast<double>(i) / (count - 1));
     if (!axis.spec->range.contains(v))
       throw ScenarioError(where + "value " + std::to_string(v) + " is outside " +
                           axis.spec->range.describe(axis.spec->unit));

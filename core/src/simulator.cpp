@@ -157,6 +157,29 @@ InitialCondition full_stroke_guess(const ModelParameters& p) {
   return ic;
 }
 
+// Sample times k * interval as decimals: when the interval is a short
+// decimal (0.35 ms = 35 / 1e5) the time is (35 k) / 1e5, the double nearest
+// the decimal, not k * 0.00035 with its last-bit noise (0.0059499999999999996).
+struct SampleGrid {
+  double interval = 1.0;
+  double numerator = 0.0, denominator = 0.0;  // interval == numerator / denominator, or 0 when it is no short decimal
+  explicit SampleGrid(double dt) : interval(dt) {
+    double den = 1.0;
+    for (int p = 0; p <= 15; ++p, den *= 10.0) {
+      const double num = std::round(dt * den);
+      if (num > 0.0 && num < 9e15 && num / den == dt) {
+        numerator = num;
+        denominator = den;
+        return;
+      }
+    }
+  }
+  double time(long long k) const {
+    const double n = static_cast<double>(k) * numerator;  // exact below 2^53
+    return numerator > 0.0 && n < 9e15 ? n / denominator : static_cast<double>(k) * interval;
+  }
+};
+
 struct Simulator::Impl {
   Impl(const ModelParameters& initial, const RunSettings& s, const InitialCondition& start, double t0)
       : settings(s),
@@ -167,6 +190,7 @@ struct Simulator::Impl {
         x(start.x),
         modes(start.modes),
         next_sample(static_cast<long long>(std::ceil(t0 / s.sample_interval - 1e-9))),
+        grid(s.sample_interval),
         thresholds(initial, scale[state::discharge_pressure]) {
     pin_held();
   }
@@ -185,10 +209,11 @@ struct Simulator::Impl {
   double step_start = 0.0, step_end = 0.0;
   bool restart = true;
   long long next_sample;
+  SampleGrid grid;
   StepObserver observer;
   StopThresholds thresholds;
 
-  double sample_time(long long k) const { return static_cast<double>(k) * settings.sample_interval; }
+  double sample_time(long long k) const { return grid.time(k); }
 
   void pin_held() {
     const ModelParameters p = schedule.at(t);
@@ -348,6 +373,7 @@ void Simulator::advance_to(double t_end, const SampleSink& sink) { impl_->advanc
 void Simulator::set_sample_interval(double seconds) {
   if (!(seconds > 0.0)) throw std::invalid_argument("the sample interval must be positive");
   impl_->settings.sample_interval = seconds;
+  impl_->grid = SampleGrid(seconds);
   impl_->next_sample = static_cast<long long>(std::floor(impl_->t / seconds + 1e-9)) + 1;
 }
 

@@ -259,9 +259,23 @@ double convert_to(std::string_view quantity_text, std::string_view target_unit) 
     throw UnitError("expected " + with_article(dimension_name(target.dimension)) + example + ", got \"" +
                     std::string(trim(quantity_text)) + "\", " + with_article(dimension_name(q.unit.dimension)));
   }
-  // One rounding, not two: "1500 rpm" must give exactly 1500 rev/min.
-  if (q.unit.offset == 0.0 && target.offset == 0.0) return q.value * (q.unit.factor / target.factor);
-  return (q.si() - target.offset) / target.factor;
+  // One rounding, not two: "1500 rpm" must give exactly 1500 rev/min; the
+  // written number was a decimal, so the result is cleaned to one.
+  if (q.unit.offset == 0.0 && target.offset == 0.0) return decimal_clean(q.value * (q.unit.factor / target.factor));
+  return decimal_clean((q.si() - target.offset) / target.factor);
+}
+
+double decimal_clean(double v) {
+  if (!std::isfinite(v) || v == 0.0) return v;
+  char buffer[40];
+  const auto written = std::to_chars(buffer, buffer + sizeof buffer, v, std::chars_format::scientific, 14);
+  double clean = v;
+  std::from_chars(buffer, written.ptr, clean);
+  // Noise is a unit or two in the last place; a larger difference is real
+  // digits (15 deg in radians, a third) and stays.
+  const double up = std::nextafter(std::nextafter(v, HUGE_VAL), HUGE_VAL);
+  const double down = std::nextafter(std::nextafter(v, -HUGE_VAL), -HUGE_VAL);
+  return clean >= down && clean <= up ? clean : v;
 }
 
 double convert(double value, std::string_view from_unit, std::string_view to_unit) {

@@ -22,12 +22,15 @@ class LiveSession {
 
   // Changes a numeric parameter now: from its present value to `to` over
   // `ramp` seconds. Returns the event as recorded. Throws ScenarioError for an
-  // unknown key or a value out of range.
+  // unknown key or a value out of range. The script goes on: scripted events
+  // on the same key that have not started yet still act at their times.
   Event change(const std::string& key, double to, double ramp = 0.0);
 
   // Advances by dt of simulated time, handing each new sample to the sink.
-  // Throws SolverError.
+  // The session's clock stays on a grid of 1 / steps_per_second, so the
+  // times of changes are short decimals in a saved file. Throws SolverError.
   void advance(double dt, const Simulator::SampleSink& sink);
+  static constexpr double steps_per_second = 1e7;  // a 0.1 us grid
 
   // Changes the spacing of the samples from now on (slow motion wants finer).
   void set_sample_interval(double seconds);
@@ -42,14 +45,18 @@ class LiveSession {
   const OperatingPoint& start() const { return start_; }
   const SolverStats& stats() const { return simulator_->stats(); }
 
-  // The session as a scenario: initial parameters, every event that has
-  // started so far, and the duration run so far (at least one sample interval).
+  // The session as a scenario: initial parameters, every event (the person's
+  // changes and the whole script, also its events still to come) and the
+  // duration run so far, or the scripted duration while scripted events are
+  // still to come (at least one sample interval). Replayed by run_scenario()
+  // it gives the session's trace up to the present time.
   Scenario to_scenario() const;
 
  private:
   void begin(const ModelParameters& initial);
 
-  Scenario scenario_;  // initial parameters, settings, events applied so far
+  Scenario scenario_;  // initial parameters, settings, the script and the changes so far
+  double scripted_duration_ = 0.0;
   OperatingPoint start_;
   std::unique_ptr<Simulator> simulator_;
 };

@@ -75,7 +75,7 @@ std::string bode_csv(const std::vector<BodePoint>& bode);
 std::string field_json(const FieldTrace& trace, const OscillationReport& report);
 std::string fit_json(const FitResult& fit);
 
-// JSON helpers shared by the writers: finite numbers with full precision,
+// JSON helpers shared by the writers: finite numbers in the shortest form that reads back exactly,
 // non-finite ones as null; strings escaped.
 std::string json_number(double value);
 std::string json_string(std::string_view text);

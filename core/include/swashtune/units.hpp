@@ -100,4 +100,11 @@ double convert_to(std::string_view quantity_text, std::string_view target_unit);
 // Converts a value between two unit expressions of equal dimension.
 double convert(double value, std::string_view from_unit, std::string_view to_unit);
 
+// The double nearest to v written with 15 significant digits, when that is
+// at most two units in the last place from v. A decimal scaled by an inexact
+// factor or stepped along a grid gains noise in its last bit (1.125 L is
+// 0.0011250000000000001 m^3); this takes it off, so that a file written back
+// shows the decimal that was meant. Real digits (15 deg in radians) stay.
+double decimal_clean(double v);
+
 }  // namespace swashtune
