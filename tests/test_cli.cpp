@@ -263,6 +263,73 @@ TEST_F(Cli, FieldAndFitCommands) {
   EXPECT_EQ(cli("fit " + demo + " --trace " + field + "log-turner-slam.csv --free no.such").exit_code, 2);
 }
 
+// Every report follows --units: stability's operating point, the map's axes
+// and fit's values are in the chosen system's units (NIST SP 811 factors:
+// 1 psi = 6894.757 Pa, 1 in = 25.4 mm, 1 in^3 = 16.387064 cm^3).
+TEST_F(Cli, ReportsUseTheChosenUnits) {
+  const Outcome us = cli("stability " + demo + " --opening 0 --units us");
+  ASSERT_EQ(us.exit_code, 0) << us.err;
+  EXPECT_NE(us.out.find(" psi"), std::string::npos) << us.out;
+  EXPECT_NE(us.out.find(" in ("), std::string::npos) << us.out;  // spool position in inches
+  EXPECT_EQ(us.out.find(" mm"), std::string::npos) << us.out;
+  EXPECT_EQ(us.out.find(" bar"), std::string::npos) << us.out;
+
+  const Outcome map =
+      cli("stability " + demo + " --map \"line.volume=0.5 L:2 L:2\" \"compensator.setting=150 bar:200 bar:2\"");
+  ASSERT_EQ(map.exit_code, 0) << map.err;
+  EXPECT_NE(map.out.find("line.volume [L]"), std::string::npos) << map.out;
+  EXPECT_NE(map.out.find("compensator.setting [bar]"), std::string::npos) << map.out;
+  EXPECT_NE(map.out.find("\n0.5 "), std::string::npos) << map.out;  // 0.5 L, not 0.0005 m^3
+  const Outcome map_us = cli("stability " + demo +
+                             " --units us --map \"line.volume=0.5 L:2 L:2\" \"compensator.setting=150 bar:200 bar:2\"");
+  ASSERT_EQ(map_us.exit_code, 0) << map_us.err;
+  EXPECT_NE(map_us.out.find("compensator.setting [psi]"), std::string::npos) << map_us.out;
+  EXPECT_NE(map_us.out.find("\n30.5119 "), std::string::npos) << map_us.out;  // 0.5 L = 30.5119 in^3
+
+  const std::string field = std::string(SWASHTUNE_SOURCE_DIR) + "/scenarios/field/";
+  const Outcome fit =
+      cli("fit " + demo + " --trace " + field + "log-turner-slam.csv --free faults.entrained_air,line.volume");
+  ASSERT_EQ(fit.exit_code, 0) << fit.err;
+  EXPECT_NE(fit.out.find("faults.entrained_air             0 % -> "), std::string::npos) << fit.out;  // a share in %
+  EXPECT_NE(fit.out.find("line.volume                      1 L -> "), std::string::npos) << fit.out;
+  EXPECT_EQ(fit.out.find("m^3"), std::string::npos) << fit.out;
+  const Outcome recorded = cli("field " + field + "line2-pusher-hunting.csv --units us");
+  ASSERT_EQ(recorded.exit_code, 0) << recorded.err;
+  EXPECT_NE(recorded.out.find("psi peak to peak"), std::string::npos) << recorded.out;
+  EXPECT_EQ(cli("field " + field + "line2-pusher-hunting.csv --units furlongs").exit_code, 2);
+}
+
+// One version, the project's, printed the same way by every program.
+TEST_F(Cli, EveryProgramPrintsTheOneVersion) {
+  const Outcome cli_version = cli("--version");
+  EXPECT_EQ(cli_version.exit_code, 0) << cli_version.err;
+  EXPECT_EQ(cli_version.out, std::string("swashtune-cli (Swashtune) ") + SWASHTUNE_VERSION + "\n");
+  const fs::path out = dir_ / "bench.txt";
+  const int status = std::system((std::string(SWASHTUNE_BENCH) + " --version >" + out.string()).c_str());
+  EXPECT_EQ(WEXITSTATUS(status), 0);
+  EXPECT_EQ(slurp(out), std::string("swashtune-bench (Swashtune) ") + SWASHTUNE_VERSION + "\n");
+}
+
+// Saved numbers are the shortest text that reads back exactly: no float
+// noise in the trace or the summary.
+TEST_F(Cli, ResultFilesCarryNoFloatNoise) {
+  const fs::path scenario =
+      write("noise.toml",
+            "[scenario]\nduration = \"0.1 s\"\nsample_interval = \"0.35 ms\"\n"
+            "[line]\nvolume = \"1.125 L\"\n[[events]]\nat = 0.03\nset = \"load.opening\"\nto = 0.0\n");
+  ASSERT_EQ(cli("run " + scenario.string() + " --out " + (dir_ / "o").string() + " --units si").exit_code, 0);
+  const std::string csv = slurp(dir_ / "o" / "trace.csv");
+  const std::string summary = slurp(dir_ / "o" / "summary.json");
+  EXPECT_NE(csv.find("\n0.00035,"), std::string::npos);  // the second sample's time as written
+  for (const std::string& text : {csv, summary}) {
+    EXPECT_EQ(text.find("00000000"), std::string::npos);
+    EXPECT_EQ(text.find("99999999"), std::string::npos);
+  }
+  const Outcome check = cli("check " + scenario.string() + " --json");
+  ASSERT_EQ(check.exit_code, 0) << check.err;
+  EXPECT_NE(check.out.find("\"line.volume\": 0.001125"), std::string::npos) << check.out;
+}
+
 // Long runs keep memory bounded: ten hours of simulated time sampled every
 // 0.1 s (360 001 rows, 44 MB of CSV) stream to disk while the in-memory trace
 // is thinned. Measured: 42 MB peak resident size; the ceiling is 64 MB

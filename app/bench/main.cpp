@@ -19,6 +19,7 @@
 #include "swashtune/results_io.hpp"
 #include "swashtune/scenario.hpp"
 #include "swashtune/simulator.hpp"
+#include "swashtune/version.hpp"
 #include "sweep_bench.hpp"
 
 namespace {
@@ -308,6 +309,8 @@ int main(int argc, char** argv) {
   double repeat_time = 0.3;
   bool json = false;
   bool check_mode = false;
+  app.set_version_flag("--version", std::string("swashtune-bench (Swashtune) ") + swashtune::version,
+                       "Print the version and exit");
   app.add_option("scenarios", scenarios, "scenario files (default: the three demos)");
   app.add_option("--rtol", rtols, "relative tolerances to run, comma-separated (default: each scenario's own)")
       ->delimiter(',')

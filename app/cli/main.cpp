@@ -3,6 +3,7 @@
 
 #include <CLI/CLI.hpp>
 #include <cerrno>
+#include <cmath>
 #include <chrono>
 #include <cstdint>
 #include <cstdio>
@@ -28,6 +29,7 @@
 #include "swashtune/simulator.hpp"
 #include "swashtune/sweep.hpp"
 #include "swashtune/units.hpp"
+#include "swashtune/version.hpp"
 
 namespace {
 
@@ -55,6 +57,47 @@ PressureUnit pressure_unit(UnitSystem units) {
       return {"psi", convert(1.0, "Pa", "psi")};
   }
   return {"Pa", 1.0};
+}
+
+// A length as the unit system shows it (spool travel: mm or in).
+PressureUnit length_unit(UnitSystem units) {
+  switch (units) {
+    case UnitSystem::si:
+      return {"m", 1.0};
+    case UnitSystem::metric:
+      return {"mm", 1e3};
+    case UnitSystem::us:
+      return {"in", convert(1.0, "m", "in")};
+  }
+  return {"m", 1.0};
+}
+
+// The unit a parameter is shown in: its registry metric or US display unit
+// ("L", "%", "psi"), the stored unit for si or where none is given.
+struct ShownUnit {
+  std::string name;  // empty for a plain number
+  double per_stored;
+  std::string format(double stored, int digits = 6) const {
+    if (!std::isfinite(stored)) return "(unknown)";
+    char buffer[64];
+    std::snprintf(buffer, sizeof buffer, "%.*g", digits, stored * per_stored);
+    return name.empty() ? std::string(buffer) : std::string(buffer) + " " + name;
+  }
+};
+
+ShownUnit parameter_unit(const ParameterSpec& spec, UnitSystem units) {
+  std::string_view shown = units == UnitSystem::us       ? spec.us_unit
+                           : units == UnitSystem::metric ? spec.metric_unit
+                                                         : spec.unit;
+  if (shown.empty()) shown = spec.unit;
+  if (shown == "-") return {"", 1.0};
+  return {std::string(shown), convert(1.0, spec.unit, shown)};
+}
+
+UnitSystem units_option(const std::string& name) {
+  const auto units = parse_unit_system(name);
+  if (!units) throw ScenarioError("--units: expected si, metric or us, got \"" + name + "\"");
+  return *units;
 }
 
 // load_scenario, with its warnings on stderr.
@@ -181,14 +224,16 @@ ModelParameters with_opening(const Scenario& scenario, const std::optional<doubl
 
 void print_stability(const StabilityReport& r, UnitSystem units) {
   const PressureUnit pu = pressure_unit(units);
+  const PressureUnit lu = length_unit(units);
   const State& x = r.operating_point.condition.x;
   const StopModes& modes = r.operating_point.condition.modes;
   std::printf("Operating point at load opening %.4g (%s%s):\n", r.load_opening, to_string(r.operating_point.method),
               r.operating_point.converged ? "" : ", NOT converged");
   std::printf("  discharge %.2f %s, control %.2f %s\n", x[state::discharge_pressure] * pu.per_pascal, pu.name,
               x[state::control_pressure] * pu.per_pascal, pu.name);
-  std::printf("  swash %.4f deg (%s), spool %.5f mm (%s)\n", x[state::swash_angle] * 180.0 / pi,
-              stop_name(modes.swash, true), x[state::spool_position] * 1e3, stop_name(modes.spool, false));
+  std::printf("  swash %.4f deg (%s), spool %.*f %s (%s)\n", x[state::swash_angle] * 180.0 / pi,
+              stop_name(modes.swash, true), units == UnitSystem::metric ? 5 : 6, x[state::spool_position] * lu.per_pascal,
+              lu.name, stop_name(modes.spool, false));
   std::printf("Closed-loop modes:\n  %14s %14s %12s %12s %10s\n", "Re [1/s]", "Im [rad/s]", "f_n [Hz]", "f_d [Hz]",
               "damping");
   for (const Mode& m : r.modes)
@@ -241,11 +286,16 @@ int stability_command(const std::string& scenario_path, const std::optional<doub
       std::cout << stability_map_json(map);
       return exit_ok;
     }
-    std::printf("%-28s %-28s %7s %8s %10s %10s %8s %10s %10s\n", std::string(x.spec->key).c_str(),
-                std::string(y.spec->key).c_str(), "stable", "applies", "GM [dB]", "PM [deg]", "modulus", "f_d [Hz]",
-                "damping");
+    // The axes' values in the parameters' display units of the chosen system.
+    const ShownUnit xu = parameter_unit(*x.spec, *units);
+    const ShownUnit yu = parameter_unit(*y.spec, *units);
+    const auto heading = [](const Axis& a, const ShownUnit& u) {
+      return std::string(a.spec->key) + (u.name.empty() ? "" : " [" + u.name + "]");
+    };
+    std::printf("%-28s %-28s %7s %8s %10s %10s %8s %10s %10s\n", heading(x, xu).c_str(), heading(y, yu).c_str(),
+                "stable", "applies", "GM [dB]", "PM [deg]", "modulus", "f_d [Hz]", "damping");
     for (const MapPoint& m : map.points)
-      std::printf("%-28.6g %-28.6g %7s %8s %10s %10s %8s %10s %10s\n", m.x, m.y,
+      std::printf("%-28.6g %-28.6g %7s %8s %10s %10s %8s %10s %10s\n", m.x * xu.per_stored, m.y * yu.per_stored,
                   m.solved ? (m.stable ? "yes" : "NO") : "?", m.margins_apply ? "yes" : "no",
                   optional_text(m.gain_margin_db, "%.2f").c_str(), optional_text(m.phase_margin_deg, "%.1f").c_str(),
                   optional_text(m.modulus_margin, "%.3f").c_str(),
@@ -330,7 +380,9 @@ void add_trace_options(CLI::App* command, FieldTraceOptions& o) {
 }
 
 int field_command(const std::string& path, const FieldTraceOptions& options, std::optional<double> from,
-                  std::optional<double> to, bool json) {
+                  std::optional<double> to, bool json, const std::string& units_name) {
+  const UnitSystem units = units_option(units_name);
+  const PressureUnit pu = pressure_unit(units);
   const FieldTrace trace = read_field_trace(path, options);
   const OscillationReport o = analyse_oscillation(trace.time, trace.pressure, from, to);
   if (json) {
@@ -342,14 +394,17 @@ int field_command(const std::string& path, const FieldTraceOptions& options, std
               trace.pressure_header.c_str());
   std::printf("pressure: %s", to_string(o.kind));
   if (o.kind != OscillationKind::settled)
-    std::printf(" at %.4g Hz, %.3g bar peak to peak, damping ratio %.4f, envelope %+.3g 1/s over %d cycles",
-                o.frequency_hz, o.peak_to_peak * 1e-5, o.damping_ratio, o.growth_rate, o.cycles);
-  std::printf("; mean %.2f bar, noise %.3g bar\n", o.mean * 1e-5, o.noise * 1e-5);
+    std::printf(" at %.4g Hz, %.3g %s peak to peak, damping ratio %.4f, envelope %+.3g 1/s over %d cycles",
+                o.frequency_hz, o.peak_to_peak * pu.per_pascal, pu.name, o.damping_ratio, o.growth_rate, o.cycles);
+  std::printf("; mean %.*f %s, noise %.3g %s\n", units == UnitSystem::metric ? 2 : 1, o.mean * pu.per_pascal, pu.name,
+              o.noise * pu.per_pascal, pu.name);
   return exit_ok;
 }
 
 int fit_command(const std::string& scenario_path, const std::string& trace_path, const FieldTraceOptions& trace_options,
-                const std::string& free, bool json, const std::string& out_path) {
+                const std::string& free, bool json, const std::string& out_path, const std::string& units_name) {
+  const UnitSystem units = units_option(units_name);
+  const PressureUnit pu = pressure_unit(units);
   const Scenario scenario = load_study(scenario_path);
   const FieldTrace trace = read_field_trace(trace_path, trace_options);
   FitOptions options;
@@ -360,8 +415,9 @@ int fit_command(const std::string& scenario_path, const std::string& trace_path,
     rest = comma == std::string::npos ? "" : rest.substr(comma + 1);
   }
   const bool terminal = ::isatty(::fileno(stderr)) != 0;  // progress only where a person watches
-  const FitResult fit = fit_to_trace(scenario, trace, options, [terminal](int simulations, double rms) {
-    if (terminal) std::fprintf(stderr, "\rfit: %d simulations, rms residual %.4g bar   ", simulations, rms * 1e-5);
+  const FitResult fit = fit_to_trace(scenario, trace, options, [terminal, pu](int simulations, double rms) {
+    if (terminal)
+      std::fprintf(stderr, "\rfit: %d simulations, rms residual %.4g %s   ", simulations, rms * pu.per_pascal, pu.name);
     return true;
   });
   if (terminal) std::fprintf(stderr, "\n");
@@ -373,12 +429,13 @@ int fit_command(const std::string& scenario_path, const std::string& trace_path,
   std::printf("fit of %s to %s (%d samples, %d simulations): %s\n", scenario_path.c_str(), trace.source.c_str(),
               fit.samples, fit.simulations, fit.message.c_str());
   for (const FittedParameter& p : fit.parameters) {
-    const std::string unit(find_parameter(p.key)->unit);
-    std::printf("  %-32s %.6g -> %.6g +- %.2g %s%s%s\n", p.key.c_str(), p.initial, p.value, p.standard_error,
-                unit == "-" ? "" : unit.c_str(), p.note.empty() ? "" : "  (",
+    const ShownUnit u = parameter_unit(*find_parameter(p.key), units);
+    std::printf("  %-32s %s -> %s +- %s%s%s\n", p.key.c_str(), u.format(p.initial).c_str(), u.format(p.value).c_str(),
+                u.format(p.standard_error, 2).c_str(), p.note.empty() ? "" : "  (",
                 p.note.empty() ? "" : (p.note + ")").c_str());
   }
-  std::printf("rms residual %.4g bar (was %.4g bar)\n", fit.rms * 1e-5, fit.initial_rms * 1e-5);
+  std::printf("rms residual %.4g %s (was %.4g %s)\n", fit.rms * pu.per_pascal, pu.name, fit.initial_rms * pu.per_pascal,
+              pu.name);
   std::printf("%s\n", safety_notice_short);
   return exit_ok;
 }
@@ -579,6 +636,8 @@ int out_of_memory(const CLI::App& app) {
 
 int main(int argc, char** argv) {
   CLI::App app{"Swashtune: dynamic simulation of the control loop of pressure-compensated piston pumps"};
+  app.set_version_flag("--version", std::string("swashtune-cli (Swashtune) ") + swashtune::version,
+                       "Print the version and exit");
   app.require_subcommand(1);
 
   std::string scenario_path, out_dir, units_name = "metric";
@@ -624,6 +683,7 @@ int main(int argc, char** argv) {
   field->add_option("--from", window_from, "Analyse from this time, s");
   field->add_option("--to", window_to, "Analyse up to this time, s");
   field->add_flag("--json", json, "Print JSON (SI)");
+  field->add_option("--units", units_name, "Units of the report: si, metric or us")->capture_default_str();
   add_trace_options(field, trace_options);
 
   CLI::App* fit =
@@ -636,6 +696,7 @@ int main(int argc, char** argv) {
       ->required();
   fit->add_option("--out", fitted_path, "Also write the scenario with the fitted values to this file");
   fit->add_flag("--json", json, "Print JSON (SI)");
+  fit->add_option("--units", units_name, "Units of the report: si, metric or us")->capture_default_str();
   add_trace_options(fit, trace_options);
 
   bool markdown = false;
@@ -679,8 +740,7 @@ int main(int argc, char** argv) {
   } catch (const CLI::CallForAllHelp& e) {
     return app.exit(e);
   } catch (const CLI::ParseError& e) {
-    app.exit(e);
-    return exit_bad_input;
+    return app.exit(e) == 0 ? exit_ok : exit_bad_input;  // --version ends here too
   }
 
   try {
@@ -689,8 +749,8 @@ int main(int argc, char** argv) {
     if (*parameters) return parameters_command(markdown);
     if (*stability) return stability_command(scenario_path, opening, json, map_axes, bode_path, units_name);
     if (*steady) return steady_command(scenario_path, points, json, units_name);
-    if (*field) return field_command(trace_path, trace_options, window_from, window_to, json);
-    if (*fit) return fit_command(scenario_path, trace_path, trace_options, free_keys, json, fitted_path);
+    if (*field) return field_command(trace_path, trace_options, window_from, window_to, json, units_name);
+    if (*fit) return fit_command(scenario_path, trace_path, trace_options, free_keys, json, fitted_path, units_name);
     if (*sweep) return sweep_command(sweep_options);
     if (*merge) return merge_command(merge_out, merge_inputs);
   } catch (const ScenarioError& e) {
