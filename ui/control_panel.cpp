@@ -3,6 +3,7 @@
 #include <QComboBox>
 #include <QDoubleSpinBox>
 #include <QFormLayout>
+#include <QGridLayout>
 #include <QGroupBox>
 #include <QHBoxLayout>
 #include <QLabel>
@@ -28,6 +29,7 @@ ControlPanel::ControlPanel(QWidget* parent) : QWidget(parent) {
   // Load restriction: the needle valve.
   auto* load = new QGroupBox(tr("Load needle valve"), this);
   auto* load_form = new QFormLayout(load);
+  load_form->setRowWrapPolicy(QFormLayout::WrapLongRows);  // a narrow dock puts labels above their fields
   opening_slider_ = new QSlider(Qt::Horizontal, load);
   opening_slider_->setRange(0, slider_steps);
   opening_slider_->setToolTip(tr("Coarse: drag to open or close the load valve"));
@@ -59,6 +61,7 @@ ControlPanel::ControlPanel(QWidget* parent) : QWidget(parent) {
   // Pump and compensator.
   auto* pump = new QGroupBox(tr("Pump and compensator"), this);
   auto* pump_form = new QFormLayout(pump);
+  pump_form->setRowWrapPolicy(QFormLayout::WrapLongRows);
   auto* setting_row = new QHBoxLayout;
   setting_ = new QDoubleSpinBox(pump);
   setting_->setDecimals(1);
@@ -67,7 +70,8 @@ ControlPanel::ControlPanel(QWidget* parent) : QWidget(parent) {
   setting_unit_ = new QLabel(pump);
   setting_row->addWidget(setting_, 1);
   setting_row->addWidget(setting_unit_);
-  pump_form->addRow(tr("Compensator setting"), setting_row);
+  pump_form->addRow(tr("Setting"), setting_row);
+  setting_->setObjectName("compensator-setting");
   speed_ = new QSpinBox(pump);
   speed_->setRange(0, static_cast<int>(spec("pump.speed").range.max));
   speed_->setSingleStep(50);
@@ -84,16 +88,18 @@ ControlPanel::ControlPanel(QWidget* parent) : QWidget(parent) {
     time_scale_->addItem(divisor == 1 ? tr("real time") : tr("1/%1 slow motion").arg(divisor), 1.0 / divisor);
   time_scale_->setToolTip(tr("Simulated time per wall-clock time: the transients last milliseconds"));
   run_layout->addWidget(time_scale_);
-  auto* buttons = new QHBoxLayout;
+  auto* buttons = new QGridLayout;
   run_ = new QPushButton(tr("Run"), run);
   run_->setCheckable(true);
+  run_->setObjectName("run-button");
   step_ = new QPushButton(tr("Step"), run);
   step_->setToolTip(tr("Advance a short slice of simulated time, then hold"));
   reset_ = new QPushButton(tr("Reset"), run);
-  reset_->setToolTip(tr("Start again from the steady state at the present settings"));
-  buttons->addWidget(run_);
-  buttons->addWidget(step_);
-  buttons->addWidget(reset_);
+  reset_->setObjectName("reset-button");
+  reset_->setToolTip(tr("Start again from the steady state at the present settings; the study's events play again"));
+  buttons->addWidget(run_, 0, 0, 1, 2);  // the one pressed most, full width
+  buttons->addWidget(step_, 1, 0);
+  buttons->addWidget(reset_, 1, 1);
   run_layout->addLayout(buttons);
   layout->addWidget(run);
   layout->addStretch(1);
@@ -102,7 +108,7 @@ ControlPanel::ControlPanel(QWidget* parent) : QWidget(parent) {
     if (showing_) return;
     const QSignalBlocker block(opening_fine_);
     opening_fine_->setValue(100.0 * v / slider_steps);
-    requestOpening(static_cast<double>(v) / slider_steps, 0.0);
+    emit sliderMoved("load.opening", static_cast<double>(v) / slider_steps);
   });
   connect(opening_fine_, qOverload<double>(&QDoubleSpinBox::valueChanged), this, [this](double percent) {
     if (showing_) return;
@@ -110,8 +116,9 @@ ControlPanel::ControlPanel(QWidget* parent) : QWidget(parent) {
     opening_slider_->setValue(static_cast<int>(std::lround(percent / 100.0 * slider_steps)));
     requestOpening(percent / 100.0, 0.0);
   });
-  connect(close_fast_, &QPushButton::clicked, this, [this] { requestOpening(0.0, ramp_ms_->value() * 1e-3); });
-  connect(open_fast_, &QPushButton::clicked, this, [this] { requestOpening(1.0, ramp_ms_->value() * 1e-3); });
+  // ms / 1000: the double nearest the decimal (5 ms is 0.005 s, not 0.005000000000000001).
+  connect(close_fast_, &QPushButton::clicked, this, [this] { requestOpening(0.0, ramp_ms_->value() / 1000.0); });
+  connect(open_fast_, &QPushButton::clicked, this, [this] { requestOpening(1.0, ramp_ms_->value() / 1000.0); });
   connect(setting_, qOverload<double>(&QDoubleSpinBox::valueChanged), this, [this](double shown) {
     if (!showing_) emit changeRequested("compensator.setting", units_.pressure.to_si(shown), 0.0);
   });

@@ -43,6 +43,8 @@ class ControlPanel : public QWidget {
 
  signals:
   void changeRequested(const QString& key, double stored_value, double ramp_seconds);
+  // A drag of the coarse slider: many small changes that undo as one.
+  void sliderMoved(const QString& key, double stored_value);
   void runRequested(bool run);
   void stepRequested();
   void resetRequested();

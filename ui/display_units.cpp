@@ -6,10 +6,14 @@ namespace swashtune::ui {
 namespace {
 
 DisplayQuantity quantity(const char* si_unit, const char* shown) {
-  return DisplayQuantity{QString::fromUtf8(shown), convert(1.0, si_unit, shown)};
+  return DisplayQuantity{QString::fromUtf8(shown), convert(1.0, si_unit, shown), convert(1.0, shown, si_unit)};
 }
 
 }  // namespace
+
+double DisplayQuantity::to_si(double shown) const {
+  return decimal_clean(inverse != 0.0 ? shown * inverse : shown / factor);
+}
 
 DisplayUnits DisplayUnits::make(UnitSystem system) {
   DisplayUnits u;
@@ -30,7 +34,7 @@ DisplayQuantity parameter_display(const ParameterSpec& spec, UnitSystem system) 
                                                                 : spec.unit;
   if (shown.empty() || shown == "-") return DisplayQuantity{QString(), 1.0};
   return DisplayQuantity{QString::fromUtf8(shown.data(), static_cast<int>(shown.size())),
-                         convert(1.0, spec.unit, shown)};
+                         convert(1.0, spec.unit, shown), convert(1.0, shown, spec.unit)};
 }
 
 }  // namespace swashtune::ui

@@ -10,10 +10,12 @@
 namespace swashtune::ui {
 
 struct DisplayQuantity {
-  QString unit;   // as shown, e.g. "bar"
-  double factor;  // shown value = SI value * factor
+  QString unit;          // as shown, e.g. "bar"
+  double factor;         // shown value = SI value * factor
+  double inverse = 0.0;  // SI value = shown value * inverse (exact for bar: 1e5); 0: 1 / factor
   double to_display(double si) const { return si * factor; }
-  double to_si(double shown) const { return shown / factor; }
+  // A number a person typed is a decimal: so is its SI value (150 bar is 1.5e7 Pa, not 15000000.000000002).
+  double to_si(double shown) const;
 };
 
 struct DisplayUnits {

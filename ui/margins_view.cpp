@@ -2,6 +2,7 @@
 
 #include <qcustomplot.h>
 
+#include <QBoxLayout>
 #include <QEvent>
 #include <QFrame>
 #include <QGridLayout>
@@ -160,9 +161,15 @@ struct MarginsView::Impl : QObject {
   QColor marginColour(const std::optional<double>& value) const;
   bool marginsApply() const { return report && report->margins_apply; }
 
+  // The two charts side by side, or one above the other in a narrow panel.
+  QBoxLayout* charts = nullptr;
+  static constexpr int stack_below_width = 720;  // px
+
   bool eventFilter(QObject* watched, QEvent* event) override {
     if (watched == view && (event->type() == QEvent::PaletteChange || event->type() == QEvent::FontChange))
       applyStyle();
+    if (watched == view && event->type() == QEvent::Resize && charts)
+      charts->setDirection(view->width() < stack_below_width ? QBoxLayout::TopToBottom : QBoxLayout::LeftToRight);
     return false;
   }
 };
@@ -170,7 +177,10 @@ struct MarginsView::Impl : QObject {
 void MarginsView::Impl::build() {
   auto* layout = new QVBoxLayout(view);
   layout->setContentsMargins(4, 4, 4, 4);
-  auto* charts = new QHBoxLayout;
+  // The view may be narrower than the charts side by side: it stacks them then.
+  layout->setSizeConstraint(QLayout::SetNoConstraint);
+  view->setMinimumWidth(400);
+  charts = new QBoxLayout(QBoxLayout::LeftToRight);
   charts->setSpacing(6);
   eigen = new QCustomPlot(view);
   eigen->setObjectName(QStringLiteral("eigenvalue_chart"));
@@ -232,7 +242,12 @@ void MarginsView::Impl::buildEigen() {
   dominantLabel->setPadding(QMargins(4, 1, 4, 1));
   dominantLabel->setVisible(false);
   eigen->legend->setVisible(true);
-  eigen->axisRect()->insetLayout()->setInsetAlignment(0, Qt::AlignBottom | Qt::AlignLeft);
+  // In a row of its own under the chart, so it never covers an eigenvalue.
+  eigen->axisRect()->insetLayout()->take(eigen->legend);
+  eigen->plotLayout()->addElement(2, 0, eigen->legend);
+  eigen->plotLayout()->setRowStretchFactor(2, 0.001);
+  eigen->legend->setFillOrder(QCPLegend::foColumnsFirst);
+  eigen->legend->setWrap(3);
 }
 
 void MarginsView::Impl::buildBode() {
@@ -338,6 +353,7 @@ void MarginsView::Impl::buildPanel(QVBoxLayout* layout) {
     names.append(n);
     auto* value = new QLabel(panel);
     value->setTextInteractionFlags(Qt::TextSelectableByMouse);
+    value->setWordWrap(true);  // a narrow panel wraps the longer figures instead of cutting them
     grid->addWidget(n, row, column);
     grid->addWidget(value, row, column + 1);
     return value;

@@ -141,6 +141,7 @@ struct ParameterEditor::Impl {
   std::map<std::string, int, std::less<>> row_of;  // key -> table row
   std::vector<int> heading_rows;
   bool writing = false;  // the editor itself is writing cells: not a user edit
+  bool own_history = true;  // false: the owner's shared stack records the changes
 
   explicit Impl(ParameterEditor* owner) : q(owner) {}
 
@@ -323,6 +324,10 @@ bool ParameterEditor::Impl::submit(const QString& key, const ParameterSpec& spec
     refresh_row(spec);  // the cell may hold the same value typed differently
     return true;
   }
+  if (!own_history) {
+    apply(spec, value);
+    return true;
+  }
   // push() runs redo(), which applies the value and emits parameterEdited.
   stack->push(new SetParameterCommand([this](const ParameterSpec& s, double v) { apply(s, v); }, spec, before, value,
                                       undo_text));
@@ -433,9 +438,11 @@ void ParameterEditor::setUnits(UnitSystem system) {
 }
 
 void ParameterEditor::setValues(const ModelParameters& values) {
+  // Only the rows that changed: this runs at display rate while a ramp moves a value.
+  const ModelParameters before = d->values;
   d->values = values;
-  d->refresh_all();
-  d->message->clear();
+  for (const ParameterSpec& spec : parameter_registry())
+    if (spec.get(before) != spec.get(values)) d->refresh_row(spec);
 }
 
 const ModelParameters& ParameterEditor::values() const { return d->values; }
@@ -486,6 +493,12 @@ bool ParameterEditor::editText(const QString& key, const QString& text) {
 }
 
 QUndoStack* ParameterEditor::undoStack() const { return d->stack; }
+
+void ParameterEditor::setUndoStack(QUndoStack* shared) {
+  if (d->stack && d->stack->parent() == this) delete d->stack;
+  d->stack = shared;
+  d->own_history = false;
+}
 
 QTableWidget* ParameterEditor::table() const { return d->table; }
 

@@ -35,6 +35,10 @@ class ParameterEditor : public QWidget {
   bool editText(const QString& key, const QString& text);
 
   QUndoStack* undoStack() const;
+  // Shares the owner's history: edits are then applied and announced
+  // (parameterEdited) without an undo step of the editor's own, so that the
+  // owner records every change, from any control, in one place.
+  void setUndoStack(QUndoStack* shared);
   QTableWidget* table() const;  // for tests
 
  signals:

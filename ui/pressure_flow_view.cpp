@@ -219,4 +219,10 @@ void PressureFlowView::setOperatingPoint(double pressure_pa, double load_flow_m3
 
 QCustomPlot* PressureFlowView::plot() const { return d->plot; }
 
+std::optional<std::pair<double, double>> PressureFlowView::operatingPoint() const {
+  if (d->point->data()->isEmpty()) return std::nullopt;
+  const auto it = d->point->data()->constBegin();
+  return std::make_pair(it->key, it->value);
+}
+
 }  // namespace swashtune::ui

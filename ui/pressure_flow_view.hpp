@@ -3,6 +3,8 @@
 #pragma once
 
 #include <QWidget>
+#include <optional>
+#include <utility>
 
 #include "display_units.hpp"
 #include "swashtune/analysis.hpp"
@@ -20,6 +22,8 @@ class PressureFlowView : public QWidget {
   void setCharacteristic(const Characteristic& characteristic, double setting_pa);
   void setOperatingPoint(double pressure_pa, double load_flow_m3_s);  // the live point
   QCustomPlot* plot() const;
+  // The operating point as drawn (display units: flow, pressure); nothing before the first.
+  std::optional<std::pair<double, double>> operatingPoint() const;
 
  private:
   struct Impl;

@@ -28,14 +28,14 @@ class SessionWorker : public QObject {
     s.settings.sample_interval = SessionController::sampleIntervalFor(scale_);
     session_ = std::make_unique<LiveSession>(s);
     running_ = false;
-    publish({});
+    publish({session_->sample_now()});  // the t = 0 row: present values and exports start there
   }
 
   void reset() {
     const ModelParameters now = session_->parameters_now();
     session_->reset(now);
     running_ = false;
-    publish({});
+    publish({session_->sample_now()});
   }
 
   Event change(const std::string& key, double to, double ramp) {

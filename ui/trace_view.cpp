@@ -3,21 +3,20 @@
 #include <qcustomplot.h>
 
 #include <QEvent>
-#include <QFileInfo>
 #include <QGridLayout>
 #include <QLabel>
 #include <QMouseEvent>
-#include <QPageSize>
-#include <QPdfWriter>
-#include <QSaveFile>
-#include <QSvgGenerator>
+#include <QTextDocument>
 #include <QVBoxLayout>
+#include <QWheelEvent>
 #include <algorithm>
 #include <array>
+#include <cmath>
+#include <limits>
 #include <optional>
 
 #include "plot_style.hpp"
-#include "swashtune/model.hpp"
+#include "trace_columns.hpp"
 
 namespace swashtune::ui {
 namespace {
@@ -25,27 +24,25 @@ namespace {
 enum class Quantity { pressure, flow, angle, length };
 
 struct TraceSpec {
-  const char* legend;   // in the chart's legend
+  const char* legend;   // in the legend and the cursor read-out
   const char* readout;  // in the row of present values (the unit says which quantity)
   int chart;
   Quantity quantity;
-  double (*si_value)(const Sample&);
-  QRgb colour;  // as drawn on a light background; lifted on a dark one
+  const char* column;  // core's trace column
+  QRgb colour;         // as drawn on a light background; lifted on a dark one
+  bool reference;      // a set value drawn as a thin dashed line (the compensator setting)
 };
 
 // Pressures warm, flows cool, the two mechanical positions in their own hues,
 // so that a read-out's swatch finds its trace at a glance.
 const TraceSpec kTraces[] = {
-    {"discharge", "discharge", 0, Quantity::pressure, [](const Sample& s) { return s.x[state::discharge_pressure]; },
-     0xd9480f},
-    {"control", "control", 0, Quantity::pressure, [](const Sample& s) { return s.x[state::control_pressure]; },
-     0x7048e8},
-    {"pump", "pump flow", 1, Quantity::flow, [](const Sample& s) { return s.pump_flow; }, 0x1971c2},
-    {"load", "load flow", 1, Quantity::flow, [](const Sample& s) { return s.load_flow; }, 0x2f9e44},
-    {"swash angle", "swash angle", 2, Quantity::angle, [](const Sample& s) { return s.x[state::swash_angle]; },
-     0xc2255c},
-    {"spool position", "spool", 3, Quantity::length, [](const Sample& s) { return s.x[state::spool_position]; },
-     0x0c8599},
+    {"discharge", "discharge", 0, Quantity::pressure, "discharge_pressure", 0xd9480f, false},
+    {"control", "control", 0, Quantity::pressure, "control_pressure", 0x7048e8, false},
+    {"setting", "setting", 0, Quantity::pressure, "compensator_setting", 0x5c5f66, true},
+    {"pump", "pump flow", 1, Quantity::flow, "pump_flow", 0x1971c2, false},
+    {"load", "load flow", 1, Quantity::flow, "load_flow", 0x2f9e44, false},
+    {"swash angle", "swash angle", 2, Quantity::angle, "swash_angle", 0xc2255c, false},
+    {"spool position", "spool", 3, Quantity::length, "spool_position", 0x0c8599, false},
 };
 constexpr int kTraceCount = static_cast<int>(std::size(kTraces));
 
@@ -58,12 +55,13 @@ struct ChartSpec {
 const ChartSpec kCharts[] = {
     {"pressure", Quantity::pressure, 2e5, 500e5},
     {"flow", Quantity::flow, 2.0 / 60000.0, 500.0 / 60000.0},
-    {"swash", Quantity::angle, 0.5 * pi / 180.0, 30.0 * pi / 180.0},
+    {"swash", Quantity::angle, 0.5 * 3.14159265358979 / 180.0, 30.0 * 3.14159265358979 / 180.0},
     {"spool", Quantity::length, 2e-5, 10e-3},
 };
 constexpr int kChartCount = static_cast<int>(std::size(kCharts));
 
 constexpr std::size_t kMaxSamples = 200000;
+constexpr double kWallWindow = 5.0;  // s of wall time in view while following
 
 const QString kFollowingText = QStringLiteral("following the run");
 const QString kHeldText = QStringLiteral("held: double-click to follow");
@@ -101,22 +99,25 @@ QVector<qreal> overlay_dashes(int index) {
 struct TraceView::Impl : QObject {
   struct Overlay {
     QString name;
-    std::vector<Sample> trace;
-    std::array<QCPGraph*, kTraceCount> graphs{};
+    std::vector<double> time;
+    std::array<std::vector<double>, kTraceCount> si;  // stored units; NaN where not known
+    std::array<QCPGraph*, kTraceCount> graphs{};      // nullptr: not drawn
   };
 
   TraceView* view;
   DisplayUnits units = DisplayUnits::make(UnitSystem::metric);
+  std::array<SampleReader, kTraceCount> readers{};
   std::vector<Sample> samples;  // retained live samples are [head, end)
   std::size_t head = 0;
-  double window = 5.0;
+  double window = kWallWindow;
   double history = 60.0;
   bool following = true;
   int programmatic = 0;  // > 0 while this code sets ranges, so they are not taken for the user's
+  std::optional<Sample> present;
 
   QWidget* readoutRow = nullptr;
   QGridLayout* readoutGrid = nullptr;
-  int readoutColumns = 0;  // read-outs per line: 6, 3 or 2, whatever fits the width
+  int readoutColumns = 0;  // read-outs per line, whatever fits the width
   std::array<QLabel*, kTraceCount> readouts{};
   QLabel* status = nullptr;
   QList<QCustomPlot*> plots;
@@ -126,8 +127,11 @@ struct TraceView::Impl : QObject {
   std::array<QCPItemText*, kChartCount> cursorText{};
   std::optional<double> cursorTime;
   int leftMargin = 0;  // shared by the charts so their value axes line up
+  bool legendShown = false;
 
-  explicit Impl(TraceView* v) : view(v) {}
+  explicit Impl(TraceView* v) : view(v) {
+    for (int k = 0; k < kTraceCount; ++k) readers[k] = column_reader(kTraces[k].column);
+  }
 
   std::size_t liveCount() const { return samples.size() - head; }
   std::vector<Sample>::const_iterator liveBegin() const { return samples.begin() + static_cast<long>(head); }
@@ -145,9 +149,10 @@ struct TraceView::Impl : QObject {
     }
     return units.pressure;
   }
-  double shown(int trace, const Sample& s) const {
-    return quantity(kTraces[trace].quantity).to_display(kTraces[trace].si_value(s));
+  double si(int trace, const Sample& s) const {
+    return readers[trace] ? readers[trace](s) : std::numeric_limits<double>::quiet_NaN();
   }
+  double shown(int trace, const Sample& s) const { return quantity(kTraces[trace].quantity).to_display(si(trace, s)); }
   QColor traceColour(int trace) const {
     return for_background(QColor(kTraces[trace].colour), is_dark(view->palette()));
   }
@@ -155,19 +160,27 @@ struct TraceView::Impl : QObject {
     const QPalette pal = view->palette();
     return blend(traceColour(trace), pal.color(QPalette::Base), is_dark(pal) ? 0.35 : 0.45);
   }
+  QPen livePen(int trace) const {
+    if (!kTraces[trace].reference) return QPen(traceColour(trace), 1.7);
+    QPen pen(traceColour(trace), 1.3, Qt::DashLine);
+    pen.setDashPattern({5, 4});
+    return pen;
+  }
 
   void build();
   void applyStyle();
   void relabel();
   void fillGraphs(const std::array<QCPGraph*, kTraceCount>& graphs, std::vector<Sample>::const_iterator first,
                   std::vector<Sample>::const_iterator last) const;
+  void fillOverlay(const Overlay& o) const;
   void rebuildGraphs();
   void prune();
   void compact();
   void setTimeRange(const QCPRange& range);
+  QCPRange allowed(QCPRange range) const;
   void applyFollowRange();
   void fitValueAxes(bool refit = false);
-  void updateLegends();
+  void updateLegend();
   void updateReadouts();
   void updateStatus();
   void arrangeReadouts(bool force = false);
@@ -176,9 +189,11 @@ struct TraceView::Impl : QObject {
   void hideCursor();
   void replotCursor();
   void replotAll();
-  void paintVector(QCPPainter& painter);
   void setLeftMargin(int pixels);
   void equaliseLeftMargins();
+  void zoomAt(QCustomPlot* plot, QWheelEvent* event);
+  void userRange(QCustomPlot* source, const QCPRange& range);
+  void addOverlay(Overlay o);
 
   bool eventFilter(QObject* watched, QEvent* event) override {
     if (event->type() == QEvent::Leave && watched != view) hideCursor();
@@ -215,12 +230,12 @@ void TraceView::Impl::build() {
     readouts[k] = new QLabel(readoutRow);
     readouts[k]->setTextFormat(Qt::RichText);
     readouts[k]->setObjectName(QStringLiteral("readout_%1").arg(k));
-    readouts[k]->setToolTip(QStringLiteral("%1 at the newest sample").arg(QString::fromUtf8(kTraces[k].legend)));
+    readouts[k]->setToolTip(QStringLiteral("%1 now").arg(QString::fromUtf8(kTraces[k].legend)));
   }
   status = new QLabel(readoutRow);
   status->setAlignment(Qt::AlignRight | Qt::AlignVCenter);
   status->setToolTip(
-      QStringLiteral("Wheel over a chart zooms the time axis, dragging pans it; "
+      QStringLiteral("The wheel over a chart zooms the time axis at the cursor, dragging pans it; "
                      "either holds the view still. Double-click to follow the run again."));
   layout->addWidget(readoutRow);
 
@@ -228,11 +243,11 @@ void TraceView::Impl::build() {
     auto* plot = new QCustomPlot(view);
     plot->setObjectName(QStringLiteral("trace_chart_%1").arg(c));
     plot->setMouseTracking(true);
-    plot->setMinimumHeight(90);
+    plot->setMinimumHeight(80);
     plot->setNoAntialiasingOnDrag(true);
-    plot->setInteractions(QCP::iRangeZoom | QCP::iRangeDrag);
-    plot->axisRect()->setRangeZoom(Qt::Horizontal);  // time only; the value axis fits the data
-    plot->axisRect()->setRangeDrag(Qt::Horizontal);
+    // Drag pans the time axis; the wheel is handled here, anchored at the cursor.
+    plot->setInteractions(QCP::iRangeDrag);
+    plot->axisRect()->setRangeDrag(Qt::Horizontal);  // time only; the value axis fits the data
     plot->addLayer(QStringLiteral("runs"), plot->layer(QStringLiteral("main")), QCustomPlot::limBelow);
     plot->xAxis2->setVisible(true);
     plot->yAxis2->setVisible(true);
@@ -242,10 +257,7 @@ void TraceView::Impl::build() {
     }
     plot->yAxis->ticker()->setTickCount(4);
     plot->xAxis->setTickLabels(c == kChartCount - 1);  // one shared time scale, labelled once
-    plot->legend->setFillOrder(QCPLegend::foColumnsFirst);
-    plot->legend->setRowSpacing(0);
-    plot->legend->setColumnSpacing(10);
-    plot->axisRect()->insetLayout()->setInsetAlignment(0, Qt::AlignTop | Qt::AlignRight);
+    plot->legend->setVisible(false);
 
     // The cursor lives on the buffered "overlay" layer so moving it redraws only that layer.
     auto* line = new QCPItemStraightLine(plot);
@@ -272,16 +284,9 @@ void TraceView::Impl::build() {
 
     connect(plot->xAxis, qOverload<const QCPRange&>(&QCPAxis::rangeChanged), this, [this, plot](const QCPRange& r) {
       if (programmatic > 0) return;
-      // The user zoomed or dragged this chart: hold still and bring the others along.
-      view->setFollowing(false);
-      ++programmatic;
-      for (QCustomPlot* other : std::as_const(plots))
-        if (other != plot) other->xAxis->setRange(r);
-      --programmatic;
-      fitValueAxes();
-      replotCursor();
-      replotAll();
+      userRange(plot, r);
     });
+    connect(plot, &QCustomPlot::mouseWheel, this, [this, plot](QWheelEvent* e) { zoomAt(plot, e); });
     connect(plot, &QCustomPlot::mouseMove, this, [this, plot](QMouseEvent* e) {
       const QRect r = plot->axisRect()->rect();
       const double x = e->position().x();
@@ -295,10 +300,22 @@ void TraceView::Impl::build() {
     connect(plot, &QCustomPlot::afterReplot, this, [this] { equaliseLeftMargins(); });
   }
 
+  // The legend names the runs laid over the live traces. It sits in a row of
+  // its own above the first chart, so it never covers ticks or data.
+  QCustomPlot* first = plots.front();
+  first->axisRect()->insetLayout()->take(first->legend);
+  first->legend->setFillOrder(QCPLegend::foColumnsFirst);
+  first->legend->setWrap(4);
+  first->legend->setRowSpacing(0);
+  first->legend->setColumnSpacing(12);
+  first->legend->setMargins(QMargins(4, 2, 4, 2));
+
   for (int k = 0; k < kTraceCount; ++k) {
     QCustomPlot* plot = plots[kTraces[k].chart];
     live[k] = plot->addGraph();
     live[k]->setName(QString::fromUtf8(kTraces[k].legend));
+    live[k]->setVisible(readers[k] != nullptr);
+    if (kTraces[k].chart != 0 || kTraces[k].reference) live[k]->removeFromLegend();
   }
   view->installEventFilter(this);
   applyStyle();
@@ -318,16 +335,17 @@ void TraceView::Impl::applyStyle() {
     plot->setBackground(pal.brush(QPalette::Window));
     plot->axisRect()->setBackground(QBrush(base));
     for (QCPAxis* a : plot->axisRect()->axes()) style_axis(a, pal, font);
-    plot->legend->setBrush(QBrush(QColor(base.red(), base.green(), base.blue(), 215)));
-    plot->legend->setBorderPen(QPen(blend(base, text, 0.25), 1));
+    plot->legend->setBrush(Qt::NoBrush);
+    plot->legend->setBorderPen(Qt::NoPen);
     plot->legend->setTextColor(text);
     plot->legend->setFont(font);
     plot->legend->setIconSize(22, fm.height() / 2 + 2);
   }
   setLeftMargin(fm.horizontalAdvance(QStringLiteral("-000.0")) + 2 * fm.height());  // refined after a replot
-  for (int k = 0; k < kTraceCount; ++k) live[k]->setPen(QPen(traceColour(k), 1.7));
+  for (int k = 0; k < kTraceCount; ++k) live[k]->setPen(livePen(k));
   for (std::size_t i = 0; i < overlays.size(); ++i) {
     for (int k = 0; k < kTraceCount; ++k) {
+      if (!overlays[i].graphs[k]) continue;
       QPen pen(overlayColour(k), 1.5);
       pen.setDashPattern(overlay_dashes(static_cast<int>(i)));
       overlays[i].graphs[k]->setPen(pen);
@@ -374,19 +392,31 @@ void TraceView::Impl::fillGraphs(const std::array<QCPGraph*, kTraceCount>& graph
   if (n <= 0) return;
   QVector<QCPGraphData> data(n);
   for (int k = 0; k < kTraceCount; ++k) {
+    if (!graphs[k] || !readers[k]) continue;
     int i = 0;
     for (auto s = first; s != last; ++s, ++i) data[i] = QCPGraphData(s->time, shown(k, *s));
     graphs[k]->data()->add(data, true);  // sorted and after what is held: appended in place
   }
 }
 
+void TraceView::Impl::fillOverlay(const Overlay& o) const {
+  for (int k = 0; k < kTraceCount; ++k) {
+    QCPGraph* g = o.graphs[k];
+    if (!g) continue;
+    g->data()->clear();
+    const DisplayQuantity& q = quantity(kTraces[k].quantity);
+    QVector<QCPGraphData> data;
+    data.reserve(static_cast<int>(o.time.size()));
+    for (std::size_t i = 0; i < o.time.size(); ++i)
+      if (std::isfinite(o.si[k][i])) data.append(QCPGraphData(o.time[i], q.to_display(o.si[k][i])));
+    g->data()->add(data, true);
+  }
+}
+
 void TraceView::Impl::rebuildGraphs() {
   for (QCPGraph* g : live) g->data()->clear();
   fillGraphs(live, liveBegin(), samples.cend());
-  for (const Overlay& o : overlays) {
-    for (QCPGraph* g : o.graphs) g->data()->clear();
-    fillGraphs(o.graphs, o.trace.cbegin(), o.trace.cend());
-  }
+  for (const Overlay& o : overlays) fillOverlay(o);
 }
 
 void TraceView::Impl::prune() {
@@ -415,13 +445,54 @@ void TraceView::Impl::setTimeRange(const QCPRange& range) {
   --programmatic;
 }
 
+// No time before the start of the run, and no wider than the history kept
+// (nor narrower than a microsecond).
+QCPRange TraceView::Impl::allowed(QCPRange r) const {
+  const double span = std::clamp(r.size(), 1e-6, std::max(history, window));
+  if (r.size() != span) r = QCPRange(r.center() - span / 2, r.center() + span / 2);
+  if (r.lower < 0.0) r = QCPRange(0.0, span);
+  return r;
+}
+
+void TraceView::Impl::userRange(QCustomPlot* source, const QCPRange& range) {
+  // The person zoomed or dragged this chart: hold still and bring the others along.
+  view->setFollowing(false);
+  const QCPRange r = allowed(range);
+  ++programmatic;
+  for (QCustomPlot* plot : std::as_const(plots))
+    if (plot != source || r != range) plot->xAxis->setRange(r);
+  --programmatic;
+  fitValueAxes();
+  replotCursor();
+  replotAll();
+}
+
+void TraceView::Impl::zoomAt(QCustomPlot* plot, QWheelEvent* event) {
+  const QRect rect = plot->axisRect()->rect();
+  const double x = std::clamp(event->position().x(), double(rect.left()), double(rect.right()));
+  const double steps = event->angleDelta().y() / 120.0;
+  if (steps == 0.0) return;
+  event->accept();
+  // The time under the cursor stays under the cursor.
+  const double anchor = plot->xAxis->pixelToCoord(x);
+  const double factor = std::pow(0.85, steps);
+  const QCPRange now = plot->xAxis->range();
+  view->setFollowing(false);
+  const QCPRange target =
+      allowed(QCPRange(anchor + (now.lower - anchor) * factor, anchor + (now.upper - anchor) * factor));
+  setTimeRange(target);
+  fitValueAxes();
+  if (cursorTime) showCursor(anchor);
+  replotAll();
+}
+
 void TraceView::Impl::applyFollowRange() {
   // Until a window's worth has run the run starts at the left edge; after that
   // the newest sample sits at the right edge.
   const double first = liveCount() ? liveBegin()->time : 0.0;
   const double last = liveCount() ? samples.back().time : 0.0;
   const double upper = std::max(last, first + window);
-  setTimeRange(QCPRange(upper - window, upper));
+  setTimeRange(QCPRange(std::max(0.0, upper - window), upper));
   fitValueAxes();
 }
 
@@ -432,6 +503,7 @@ void TraceView::Impl::fitValueAxes(bool refit) {
     QCPRange data;
     bool any = false;
     for (int g = 0; g < plot->graphCount(); ++g) {
+      if (!plot->graph(g)->visible()) continue;
       bool found = false;
       const QCPRange r = plot->graph(g)->getValueRange(found, QCP::sdBoth, keys);
       if (!found) continue;
@@ -454,15 +526,30 @@ void TraceView::Impl::fitValueAxes(bool refit) {
   }
 }
 
-void TraceView::Impl::updateLegends() {
-  for (QCustomPlot* plot : std::as_const(plots)) plot->legend->setVisible(plot->legend->itemCount() > 1);
+void TraceView::Impl::updateLegend() {
+  // Shown only when there is something to tell apart: runs laid over the live ones.
+  const bool wanted = !overlays.empty();
+  QCustomPlot* first = plots.front();
+  if (wanted == legendShown) return;
+  legendShown = wanted;
+  if (wanted) {
+    first->plotLayout()->insertRow(0);
+    first->plotLayout()->addElement(0, 0, first->legend);
+    first->plotLayout()->setRowStretchFactor(0, 0.001);
+    first->legend->setVisible(true);
+  } else {
+    first->legend->setVisible(false);
+    first->plotLayout()->take(first->legend);
+    first->plotLayout()->simplify();
+  }
 }
 
 void TraceView::Impl::updateReadouts() {
-  const Sample* now = liveCount() ? &samples.back() : nullptr;
+  const Sample* now = present ? &*present : liveCount() ? &samples.back() : nullptr;
   for (int k = 0; k < kTraceCount; ++k) {
     const QString unit = quantity(kTraces[k].quantity).unit;
-    const QString value = now ? format_shown(shown(k, *now), unit) : QStringLiteral("\u2013");
+    const double v = now ? shown(k, *now) : std::numeric_limits<double>::quiet_NaN();
+    const QString value = std::isfinite(v) ? format_shown(v, unit) : QStringLiteral("\u2013");
     readouts[k]->setText(QStringLiteral("<span style=\"color:%1\">\u25a0</span>&nbsp;%2&nbsp;<b>%3</b>&nbsp;%4")
                              .arg(traceColour(k).name(), QString::fromUtf8(kTraces[k].readout), value, unit));
   }
@@ -472,7 +559,7 @@ void TraceView::Impl::arrangeReadouts(bool force) {
   const int spacing = readoutGrid->horizontalSpacing();
   const QMargins m = readoutGrid->contentsMargins();
   auto needed = [&](int columns) {
-    int width = m.left() + m.right() + status->minimumWidth();
+    int width = m.left() + m.right();
     for (int c = 0; c < columns; ++c) {
       int widest = 0;
       for (int k = c; k < kTraceCount; k += columns) widest = std::max(widest, readouts[k]->minimumWidth());
@@ -481,7 +568,7 @@ void TraceView::Impl::arrangeReadouts(bool force) {
     return width;
   };
   int columns = 1;
-  for (int candidate : {6, 3, 2}) {
+  for (int candidate : {kTraceCount, 4, 3, 2}) {
     if (needed(candidate) <= view->width()) {
       columns = candidate;
       break;
@@ -490,17 +577,23 @@ void TraceView::Impl::arrangeReadouts(bool force) {
   if (columns == readoutColumns && !force) return;
   for (QLabel* l : readouts) readoutGrid->removeWidget(l);
   readoutGrid->removeWidget(status);
-  for (int c = 0; c <= 7; ++c) readoutGrid->setColumnStretch(c, 0);
+  for (int c = 0; c <= kTraceCount + 1; ++c) readoutGrid->setColumnStretch(c, 0);
   for (int k = 0; k < kTraceCount; ++k) readoutGrid->addWidget(readouts[k], k / columns, k % columns);
-  readoutGrid->setColumnStretch(columns, 1);
-  readoutGrid->addWidget(status, 0, columns + 1);
+  readoutGrid->setColumnStretch(columns - 1, 1);
+  // The follow/held note at the right end of the last line of read-outs.
+  const int lastRow = (kTraceCount - 1) / columns;
+  const int freeColumns = columns - 1 - (kTraceCount - 1) % columns;
+  if (freeColumns > 0)
+    readoutGrid->addWidget(status, lastRow, columns - freeColumns, 1, freeColumns);
+  else
+    readoutGrid->addWidget(status, lastRow + 1, 0, 1, columns);
   readoutColumns = columns;
 }
 
 void TraceView::Impl::updateStatus() { status->setText(following ? kFollowingText : kHeldText); }
 
 std::optional<double> TraceView::Impl::valueAt(int trace, double t) const {
-  if (liveCount() == 0 || t < liveBegin()->time || t > samples.back().time) return std::nullopt;
+  if (liveCount() == 0 || t < liveBegin()->time || t > samples.back().time || !readers[trace]) return std::nullopt;
   auto after = std::lower_bound(liveBegin(), samples.cend(), t, [](const Sample& s, double x) { return s.time < x; });
   if (after == liveBegin()) return shown(trace, *after);
   const auto before = after - 1;
@@ -515,7 +608,7 @@ void TraceView::Impl::showCursor(double t) {
     QStringList parts;
     if (c == 0) parts << QStringLiteral("t = %1 s").arg(QString::number(t, 'f', 4));
     for (int k = 0; k < kTraceCount; ++k) {
-      if (kTraces[k].chart != c) continue;
+      if (kTraces[k].chart != c || !readers[k]) continue;
       const auto v = valueAt(k, t);
       const QString unit = quantity(kTraces[k].quantity).unit;
       parts << QStringLiteral("%1 %2 %3")
@@ -529,17 +622,8 @@ void TraceView::Impl::showCursor(double t) {
     const double px = plot->xAxis->coordToPixel(t);
     const QRect r = plot->axisRect()->rect();
     const bool rightSide = px < r.left() + 0.6 * r.width();
-    const QString text = parts.join(QStringLiteral("   "));
-    cursorText[c]->setText(text);
-    // Drop below the legend rather than cover it.
-    const int width = QFontMetrics(cursorText[c]->font()).horizontalAdvance(text) + 12;
-    const double left = rightSide ? px + 6 : px - 6 - width;
-    int down = 6;
-    if (plot->legend->visible()) {
-      const QRect legend = plot->legend->outerRect();
-      if (left < legend.right() && left + width > legend.left()) down = legend.bottom() - r.top() + 4;
-    }
-    cursorText[c]->position->setCoords(rightSide ? 6 : -6, down);
+    cursorText[c]->setText(parts.join(QStringLiteral("   ")));
+    cursorText[c]->position->setCoords(rightSide ? 6 : -6, 6);
     cursorText[c]->setPositionAlignment(Qt::AlignTop | (rightSide ? Qt::AlignLeft : Qt::AlignRight));
     cursorLine[c]->setVisible(true);
     cursorText[c]->setVisible(true);
@@ -591,17 +675,29 @@ void TraceView::Impl::equaliseLeftMargins() {
   replotAll();
 }
 
-void TraceView::Impl::paintVector(QCPPainter& painter) {
-  painter.fillRect(view->rect(), view->palette().brush(QPalette::Window));
-  readoutRow->render(&painter, readoutRow->mapTo(view, QPoint(0, 0)), QRegion(), QWidget::DrawChildren);
-  painter.setMode(QCPPainter::pmVectorized);
-  painter.setMode(QCPPainter::pmNoCaching);
-  for (QCustomPlot* plot : std::as_const(plots)) {
-    painter.save();
-    painter.translate(plot->mapTo(view, QPoint(0, 0)));
-    plot->toPainter(&painter, plot->width(), plot->height());
-    painter.restore();
+void TraceView::Impl::addOverlay(Overlay o) {
+  const int index = static_cast<int>(overlays.size());
+  bool named = false;
+  for (int k = 0; k < kTraceCount; ++k) {
+    if (kTraces[k].reference) continue;  // the live setting line is enough
+    if (std::none_of(o.si[k].begin(), o.si[k].end(), [](double v) { return std::isfinite(v); })) continue;
+    QCustomPlot* plot = plots[kTraces[k].chart];
+    QCPGraph* g = plot->addGraph();
+    g->setLayer(QStringLiteral("runs"));  // under the live traces
+    QPen pen(overlayColour(k), 1.5);
+    pen.setDashPattern(overlay_dashes(index));
+    g->setPen(pen);
+    g->setName(o.name);
+    // One legend entry per run (on the pressure chart) names it.
+    if (kTraces[k].chart != 0 || named) g->removeFromLegend();
+    if (kTraces[k].chart == 0) named = true;
+    o.graphs[k] = g;
   }
+  fillOverlay(o);
+  overlays.push_back(std::move(o));
+  updateLegend();
+  fitValueAxes();
+  replotAll();
 }
 
 // ---- TraceView ----
@@ -625,12 +721,14 @@ void TraceView::appendSamples(const std::vector<Sample>& samples) {
   const std::size_t first_new = d->samples.size();
   for (const Sample& s : samples) {
     // Callers clear() before a new run; a sample older than the newest would
-    // break the time order the charts and the cursor's search rely on.
-    if (d->samples.size() > d->head && s.time < d->samples.back().time) continue;
+    // break the time order the charts and the cursor's search rely on. One
+    // at the newest time again (the start row, then the first step's) is the same row.
+    if (d->samples.size() > d->head && s.time <= d->samples.back().time) continue;
     d->samples.push_back(s);
   }
   d->fillGraphs(d->live, d->samples.cbegin() + static_cast<long>(first_new), d->samples.cend());
   d->prune();
+  d->present.reset();
   d->updateReadouts();
   if (d->following)
     d->applyFollowRange();
@@ -640,9 +738,15 @@ void TraceView::appendSamples(const std::vector<Sample>& samples) {
   d->replotAll();
 }
 
+void TraceView::showPresent(const Sample& present) {
+  d->present = present;
+  d->updateReadouts();
+}
+
 void TraceView::clear() {
   d->samples.clear();
   d->head = 0;
+  d->present.reset();
   for (QCPGraph* g : d->live) g->data()->clear();
   d->hideCursor();
   d->updateReadouts();
@@ -661,6 +765,12 @@ void TraceView::setWindowSeconds(double seconds) {
     d->replotAll();
   }
 }
+
+void TraceView::setTimeScale(double scale) {
+  if (scale > 0.0) setWindowSeconds(kWallWindow * scale);
+}
+
+double TraceView::windowSeconds() const { return d->window; }
 
 void TraceView::setHistorySeconds(double seconds) {
   if (!(seconds > 0.0)) return;
@@ -682,42 +792,56 @@ void TraceView::setFollowing(bool following) {
 
 bool TraceView::following() const { return d->following; }
 
+std::pair<double, double> TraceView::timeRange() const {
+  const QCPRange r = d->plots.front()->xAxis->range();
+  return {r.lower, r.upper};
+}
+
 void TraceView::addOverlay(const QString& name, const std::vector<Sample>& trace) {
   Impl::Overlay o;
   o.name = name;
-  o.trace = trace;
-  const int index = static_cast<int>(d->overlays.size());
-  std::array<bool, kChartCount> named{};
+  o.time.reserve(trace.size());
+  for (const Sample& s : trace) o.time.push_back(s.time);
   for (int k = 0; k < kTraceCount; ++k) {
-    QCustomPlot* plot = d->plots[kTraces[k].chart];
-    QCPGraph* g = plot->addGraph();
-    g->setLayer(QStringLiteral("runs"));  // under the live traces
-    QPen pen(d->overlayColour(k), 1.5);
-    pen.setDashPattern(overlay_dashes(index));
-    g->setPen(pen);
-    g->setName(name);
-    // One legend entry per run and chart is enough to name it.
-    if (named[kTraces[k].chart]) g->removeFromLegend();
-    named[kTraces[k].chart] = true;
-    o.graphs[k] = g;
+    o.si[k].reserve(trace.size());
+    for (const Sample& s : trace) o.si[k].push_back(d->si(k, s));
   }
-  d->fillGraphs(o.graphs, o.trace.cbegin(), o.trace.cend());
-  d->overlays.push_back(std::move(o));
-  d->updateLegends();
-  d->fitValueAxes();
-  d->replotAll();
+  d->addOverlay(std::move(o));
+}
+
+void TraceView::addMeasuredOverlay(const QString& name, const std::vector<double>& time,
+                                   const std::vector<std::pair<std::string, std::vector<double>>>& series) {
+  Impl::Overlay o;
+  o.name = name;
+  o.time = time;
+  for (int k = 0; k < kTraceCount; ++k) {
+    o.si[k].assign(time.size(), std::numeric_limits<double>::quiet_NaN());
+    for (const auto& [column, values] : series)
+      if (column == kTraces[k].column && values.size() == time.size()) o.si[k] = values;
+  }
+  d->addOverlay(std::move(o));
 }
 
 void TraceView::clearOverlays() {
   for (const Impl::Overlay& o : d->overlays)
-    for (QCPGraph* g : o.graphs) g->parentPlot()->removeGraph(g);
+    for (QCPGraph* g : o.graphs)
+      if (g) g->parentPlot()->removeGraph(g);
   d->overlays.clear();
-  d->updateLegends();
+  d->updateLegend();
   d->fitValueAxes();
   d->replotAll();
 }
 
 int TraceView::overlayCount() const { return static_cast<int>(d->overlays.size()); }
+
+QStringList TraceView::legendNames() const {
+  QStringList names;
+  if (!d->legendShown) return names;
+  QCPLegend* legend = d->plots.front()->legend;
+  for (int i = 0; i < legend->itemCount(); ++i)
+    if (auto* item = qobject_cast<QCPPlottableLegendItem*>(legend->item(i))) names << item->plottable()->name();
+  return names;
+}
 
 int TraceView::sampleCount() const { return static_cast<int>(d->liveCount()); }
 
@@ -728,58 +852,11 @@ const std::vector<Sample>& TraceView::liveSamples() const {
   return d->samples;
 }
 
-bool TraceView::exportImage(const QString& path, QString* error) {
-  auto fail = [&](const QString& why) {
-    if (error) *error = why;
-    return false;
-  };
-  const QString suffix = QFileInfo(path).suffix().toLower();
-  if (suffix != QLatin1String("png") && suffix != QLatin1String("svg") && suffix != QLatin1String("pdf"))
-    return fail(QStringLiteral("%1: unknown picture format \"%2\"; use .png, .svg or .pdf").arg(path, suffix));
-  if (layout()) layout()->activate();
-  // Twice: the first pass may change the shared left margin (equaliseLeftMargins).
-  for (int pass = 0; pass < 2; ++pass)
-    for (QCustomPlot* plot : std::as_const(d->plots)) plot->replot(QCustomPlot::rpImmediateRefresh);
-
-  QSaveFile file(path);  // written aside and renamed: never a half-written picture
-  if (!file.open(QIODevice::WriteOnly))
-    return fail(QStringLiteral("%1: cannot write: %2").arg(path, file.errorString()));
-  bool drawn = false;
-  if (suffix == QLatin1String("png")) {
-    drawn = grab().save(&file, "PNG");
-  } else if (suffix == QLatin1String("svg")) {
-    QSvgGenerator svg;
-    svg.setOutputDevice(&file);
-    svg.setSize(size());
-    svg.setViewBox(rect());
-    svg.setResolution(logicalDpiX());
-    svg.setTitle(QStringLiteral("Swashtune traces"));
-    QCPPainter painter;
-    if (painter.begin(&svg)) {
-      d->paintVector(painter);
-      drawn = painter.end();
-    }
-  } else {
-    QPdfWriter pdf(&file);
-    pdf.setCreator(QStringLiteral("Swashtune"));
-    pdf.setTitle(QStringLiteral("Swashtune traces"));
-    pdf.setResolution(logicalDpiX());  // one device unit per screen pixel: fonts keep their proportions
-    pdf.setPageMargins(QMarginsF(0, 0, 0, 0));
-    const double toPoints = 72.0 / logicalDpiX();
-    pdf.setPageSize(
-        QPageSize(QSizeF(width() * toPoints, height() * toPoints), QPageSize::Point, QString(), QPageSize::ExactMatch));
-    QCPPainter painter;
-    if (painter.begin(&pdf)) {
-      d->paintVector(painter);
-      drawn = painter.end();
-    }
-  }
-  if (!drawn) {
-    file.cancelWriting();
-    return fail(QStringLiteral("%1: the picture could not be drawn").arg(path));
-  }
-  if (!file.commit()) return fail(QStringLiteral("%1: cannot write: %2").arg(path, file.errorString()));
-  return true;
+QString TraceView::readoutText(int index) const {
+  if (index < 0 || index >= kTraceCount) return QString();
+  QTextDocument doc;
+  doc.setHtml(d->readouts[index]->text());
+  return doc.toPlainText().replace(QChar(0xa0), QLatin1Char(' '));
 }
 
 QList<QCustomPlot*> TraceView::plots() const { return d->plots; }

@@ -15,6 +15,7 @@
 #include <QTimer>
 #include <QVBoxLayout>
 #include <QtConcurrent/QtConcurrentRun>
+#include <algorithm>
 #include <cmath>
 
 namespace swashtune::ui {
@@ -25,6 +26,20 @@ const QStringList suggested_free = {"line.volume", "faults.entrained_air", "comp
                                     "compensator.bleed_orifice"};
 
 bool is_fault(const ParameterSpec& spec) { return spec.key.substr(0, 7) == "faults."; }
+
+// Where a fault's severity box starts, so that ticking it shows a fault at
+// once (the healthy value would switch nothing on); any value can be typed.
+// Example severities for trying the faults, not measured figures.
+double example_severity(const ParameterSpec& spec) {
+  static const std::pair<const char*, double> examples[] = {
+      {"faults.leakage_factor", 4.0},       {"faults.entrained_air", 0.03},     {"faults.bleed_area_factor", 0.0},
+      {"faults.bias_spring_strength", 0.6}, {"faults.spool_friction", 20.0},    {"faults.spool_stiction_ratio", 2.5},
+      {"faults.setting_drift", 0.1},        {"faults.line_volume_factor", 3.0}, {"faults.case_pressure", 3e5},
+  };
+  for (const auto& [key, value] : examples)
+    if (spec.key == key && spec.range.contains(value)) return value;
+  return spec.default_value;
+}
 
 QString key_of(const ParameterSpec& spec) {
   return QString::fromUtf8(spec.key.data(), static_cast<int>(spec.key.size()));
@@ -58,12 +73,14 @@ TroubleshootingPanel::TroubleshootingPanel(QWidget* parent)
     if (!is_fault(spec)) continue;
     // A short name on the box ("spool friction"), the full meaning as its tooltip.
     const QString name = key_of(spec).mid(7).replace('_', ' ');
-    FaultRow f{&spec, new QCheckBox(name, faults), new QDoubleSpinBox(faults), spec.default_value};
+    FaultRow f{&spec, new QCheckBox(name, faults), new QDoubleSpinBox(faults), example_severity(spec)};
     f.on->setObjectName(key_of(spec));
     f.on->setToolTip(key_of(spec) + ": " +
                      QString::fromUtf8(spec.meaning.data(), static_cast<int>(spec.meaning.size())));
     f.severity->setDecimals(4);
     f.severity->setKeyboardTracking(false);
+    f.severity->setObjectName(key_of(spec) + QStringLiteral(".severity"));
+    f.severity->setToolTip(tr("Severity when switched on (an example to start from; type any value)"));
     grid->addWidget(f.on, row, 0);
     grid->addWidget(f.severity, row, 1);
     ++row;
@@ -121,9 +138,17 @@ TroubleshootingPanel::TroubleshootingPanel(QWidget* parent)
   apply_button_ = new QPushButton(tr("Use fitted values"), fit);
   cancel_button_->setEnabled(false);
   apply_button_->setEnabled(false);
+  fit_button_->setObjectName("fit-button");
+  cancel_button_->setObjectName("fit-cancel-button");
+  apply_button_->setObjectName("fit-apply-button");
+  fit_button_->setToolTip(tr("Fit the ticked parameters of the present design to the recording"));
   progress_ = new QProgressBar(fit);
+  progress_->setObjectName("fit-progress");
   progress_->setRange(0, 0);
   progress_->setVisible(false);
+  cannot_tell_ = new QLabel(fit);
+  cannot_tell_->setObjectName("fit-cannot-tell");
+  cannot_tell_->setWordWrap(true);
   fit_table_ = new QTableWidget(0, 4, fit);
   fit_table_->setHorizontalHeaderLabels({tr("parameter"), tr("from"), tr("fitted"), tr("note")});
   fit_table_->horizontalHeader()->setStretchLastSection(true);
@@ -136,12 +161,20 @@ TroubleshootingPanel::TroubleshootingPanel(QWidget* parent)
   fit_layout->addWidget(apply_button_, 1, 2);
   fit_layout->addWidget(progress_, 1, 3);
   fit_layout->addWidget(fit_table_, 2, 0, 1, 4);
+  fit_layout->addWidget(cannot_tell_, 3, 0, 1, 4);
   layout->addWidget(fit);
   message_ = new QLabel(this);
   message_->setWordWrap(true);
   layout->addWidget(message_);
   layout->addStretch(1);
 
+  connect(fit_button_, &QPushButton::clicked, this, [this] {
+    if (!recording_) {
+      message_->setText(tr("Load a recording first: the fit needs a measured pressure to match."));
+      return;
+    }
+    emit fitRequested();  // the owner starts it with the present design
+  });
   connect(cancel_button_, &QPushButton::clicked, this, &TroubleshootingPanel::cancelFit);
   connect(apply_button_, &QPushButton::clicked, this, [this] {
     if (fit_result_) emit applyFitRequested(fit_result_->fitted);
@@ -239,6 +272,7 @@ void TroubleshootingPanel::showSimulatedAnalysis(const OscillationReport& report
 QString TroubleshootingPanel::recordingAnalysisText() const { return recording_analysis_->text(); }
 QString TroubleshootingPanel::simulatedAnalysisText() const { return simulated_analysis_->text(); }
 QString TroubleshootingPanel::lastMessage() const { return message_->text(); }
+QString TroubleshootingPanel::cannotTellText() const { return cannot_tell_->text(); }
 
 QStringList TroubleshootingPanel::checkedFreeKeys() const {
   QStringList keys;
@@ -271,8 +305,14 @@ bool TroubleshootingPanel::startFit(const Scenario& study) {
   fit_button_->setEnabled(false);
   cancel_button_->setEnabled(true);
   apply_button_->setEnabled(false);
+  cannot_tell_->clear();
+  fit_table_->setRowCount(0);
+  // Each iteration runs the study once per free parameter and once more; the
+  // bar counts simulations against the most the search may take.
+  progress_->setRange(0, (options.max_iterations + 1) * (static_cast<int>(options.free_keys.size()) + 1));
+  progress_->setValue(0);
+  progress_->setFormat(tr("%v simulations"));
   progress_->setVisible(true);
-  progress_->setFormat(tr("fitting"));
   message_->setText(tr("Fitting: each step runs the study once per free parameter..."));
   const FieldTrace trace = *recording_;
   auto cancel = cancel_;
@@ -297,6 +337,7 @@ bool TroubleshootingPanel::startFit(const Scenario& study) {
       poll->deleteLater();
       return;
     }
+    progress_->setValue(std::min(simulations_->load(), progress_->maximum()));
     message_->setText(tr("Fitting: %1 simulations so far").arg(simulations_->load()));
   });
   poll->start(100);
@@ -325,6 +366,21 @@ void TroubleshootingPanel::showFitResult() {
   }
   fit_table_->resizeColumnsToContents();
   apply_button_->setEnabled(!r.cancelled);
+  // What the recording cannot tell, in plain words.
+  QStringList unknown;
+  for (const FittedParameter& p : r.parameters)
+    if (!p.identifiable)
+      unknown << QStringLiteral("%1 (%2)").arg(QString::fromStdString(p.key), QString::fromStdString(p.note));
+  if (r.cancelled)
+    cannot_tell_->setText(tr("Cancelled: the values are the best found so far and not a fit."));
+  else if (!unknown.isEmpty())
+    cannot_tell_->setText(tr("The recording cannot tell: %1. Keep those at known values or record an event that "
+                             "moves them.")
+                              .arg(unknown.join(QStringLiteral("; "))));
+  else
+    cannot_tell_->setText(tr("The recording tells every fitted parameter (standard errors in the table), over %1 "
+                             "recorded samples.")
+                              .arg(r.samples));
   message_->setText(tr("%1: rms residual %2 %3 (from %4 %3) after %5 simulations")
                         .arg(QString::fromStdString(r.message))
                         .arg(units_.pressure.to_display(r.rms), 0, 'g', 4)

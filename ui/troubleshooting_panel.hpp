@@ -51,6 +51,12 @@ class TroubleshootingPanel : public QWidget {
   bool fitRunning() const;
   const std::optional<FitResult>& fitResult() const { return fit_result_; }
   QStringList checkedFreeKeys() const;
+  QString cannotTellText() const;
+  QPushButton* fitButton() const { return fit_button_; }
+  QPushButton* cancelButton() const { return cancel_button_; }
+  QPushButton* applyButton() const { return apply_button_; }
+  QTableWidget* fitTable() const { return fit_table_; }
+  QListWidget* freeKeyList() const { return free_keys_; }
   void setFreeKeys(const QStringList& keys);
 
   // For tests: the on/off box and severity box of a fault key.
@@ -61,6 +67,7 @@ class TroubleshootingPanel : public QWidget {
   void changeRequested(const QString& key, double stored_value, double ramp_seconds);
   void recordingLoaded();  // show it over the live traces
   void fitFinished();      // fitResult() holds the outcome
+  void fitRequested();     // the Fit button: the owner calls startFit() with the present design
   void applyFitRequested(const Scenario& fitted);
 
  private:
@@ -87,6 +94,7 @@ class TroubleshootingPanel : public QWidget {
   QPushButton* apply_button_;
   QProgressBar* progress_;
   QTableWidget* fit_table_;
+  QLabel* cannot_tell_;
   std::shared_ptr<std::atomic<bool>> cancel_;
   std::shared_ptr<std::atomic<int>> simulations_;
   QFutureWatcher<FitResult>* watcher_;
