@@ -19,6 +19,16 @@ bool is_bare_key_char(unsigned char c) {
 
 bool is_scalar_char(unsigned char c) { return is_bare_key_char(c) || c == '+' || c == '.' || c == ':'; }
 
+// "1979-05-27", "07:32:00", "2-3": a digit, '-', a digit (not an exponent's
+// sign as in 1e-3), or any ':'.
+bool looks_like_date_or_time(std::string_view token) {
+  if (token.find(':') != std::string_view::npos) return true;
+  for (std::size_t k = 1; k + 1 < token.size(); ++k)
+    if (token[k] == '-' && token[k - 1] >= '0' && token[k - 1] <= '9' && token[k + 1] >= '0' && token[k + 1] <= '9')
+      return true;
+  return false;
+}
+
 bool is_hex(unsigned char c) { return (c >= '0' && c <= '9') || (c >= 'a' && c <= 'f') || (c >= 'A' && c <= 'F'); }
 
 // Length of the UTF-8 sequence starting at text[i]; 0 when it is not valid
@@ -260,16 +270,20 @@ class Scanner {
     scalar();
   }
 
-  // Numbers, true/false, dates and times: their characters only; toml++
-  // checks the form.
+  // Numbers and true/false: their characters only; toml++ checks the form.
+  // Dates and times are refused here: no scenario key takes one, and
+  // toml++'s date parser asserts on malformed ones (1979-05-27T:007).
   void scalar() {
-    const std::size_t start = i_;
-    while (is_scalar_char(peek())) {
-      advance();
-      // a date and a time may be separated by one space: 1979-05-27 07:32:00
-      if (peek() == ' ' && i_ - start == 10 && text_[start + 4] == '-' && peek(1) >= '0' && peek(1) <= '9') advance();
+    const Position start = here();
+    while (is_scalar_char(peek())) advance();
+    if (i_ > start.index) {
+      const std::string_view token = text_.substr(start.index, i_ - start.index);
+      if (looks_like_date_or_time(token))
+        fail_at(start, "'" + std::string(token) +
+                           "' has the form of a date or time, which no scenario key takes; durations are written "
+                           "as \"0.1 s\"");
+      return;
     }
-    if (i_ > start) return;
     const unsigned char c = peek();
     if (c >= 0x80) fail(non_ascii_advice(false));
     if ((c == ']' || c == '}') && !open_.empty()) {
