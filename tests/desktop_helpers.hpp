@@ -4,6 +4,9 @@
 #pragma once
 
 #include <QAbstractButton>
+#include <QCheckBox>
+#include <QStyle>
+#include <QStyleOptionButton>
 #include <QAbstractItemView>
 #include <QApplication>
 #include <QCompleter>
@@ -168,6 +171,14 @@ inline void press(QWidget& w, Qt::Key key, Qt::KeyboardModifiers modifiers = Qt:
   w.activateWindow();
   QApplication::setActiveWindow(&w);
   QTest::keyClick(&w, key, modifiers);
+}
+
+// Clicks a check box on its box, where a person clicks it.
+inline void click_box(QCheckBox* box) {
+  QStyleOptionButton option;
+  option.initFrom(box);
+  const QRect indicator = box->style()->subElementRect(QStyle::SE_CheckBoxIndicator, &option, box);
+  QTest::mouseClick(box, Qt::LeftButton, Qt::NoModifier, indicator.center());
 }
 
 // Types a value into a spin box as a person does: select, type, Enter.

@@ -17,6 +17,7 @@
 #include <QPushButton>
 #include <QResizeEvent>
 #include <QScrollArea>
+#include <QScrollBar>
 #include <QSettings>
 #include <QSplitter>
 #include <QStandardPaths>
@@ -29,6 +30,8 @@
 #include <cmath>
 #include <limits>
 
+#include "circuit_view.hpp"
+#include "compare_view.hpp"
 #include "control_panel.hpp"
 #include "margins_view.hpp"
 #include "parameter_editor.hpp"
@@ -130,6 +133,9 @@ MainWindow::MainWindow(Options options, QWidget* parent)
       controls_(new ControlPanel),
       troubleshooting_(new TroubleshootingPanel),
       side_tabs_(new QTabWidget),
+      centre_tabs_(new QTabWidget),
+      circuit_(new CircuitView),
+      compare_(new CompareView),
       warning_(new QLabel),
       status_time_(new QLabel),
       status_rate_(new QLabel),
@@ -153,7 +159,35 @@ MainWindow::MainWindow(Options options, QWidget* parent)
   centre_layout->addWidget(warning_);
   splitter_ = new QSplitter(Qt::Horizontal);
   splitter_->setObjectName("main-splitter");
-  splitter_->addWidget(traces_);
+  centre_tabs_->setObjectName("centre-tabs");
+  centre_tabs_->setDocumentMode(true);
+  centre_tabs_->addTab(traces_, tr("Strip charts"));
+  centre_tabs_->addTab(circuit_, tr("Circuit"));
+  centre_tabs_->setTabToolTip(1, tr("The machine as a circuit diagram, lines coloured by pressure: a view for the room"));
+  centre_tabs_->addTab(compare_, tr("Compare"));
+  centre_tabs_->setTabToolTip(2, tr("Designs side by side on the study's events, with a table of their figures"));
+  connect(compare_, &CompareView::designRequested, this, [this](CompareView::Source source, const QString& key) {
+    addToComparison(source == CompareView::Source::opened      ? QStringLiteral("opened")
+                    : source == CompareView::Source::present   ? QStringLiteral("present")
+                    : source == CompareView::Source::recording ? QStringLiteral("recording")
+                                                               : key);
+  });
+  connect(centre_tabs_, &QTabWidget::currentChanged, this, [this] {
+    // The comparison carries its own margins: the side panel steps aside for
+    // its table, and comes back when the comparison is left.
+    const bool comparing = centre_tabs_->currentWidget() == compare_;
+    if (comparing && side_panel_action_->isChecked()) {
+      side_hidden_for_compare_ = true;
+      side_panel_action_->setChecked(false);
+    } else if (!comparing && side_hidden_for_compare_) {
+      side_hidden_for_compare_ = false;
+      side_panel_action_->setChecked(true);
+    }
+    user_side_share_.reset();
+    adjustPanels();
+    refreshNow();  // the circuit draws the present state at once
+  });
+  splitter_->addWidget(centre_tabs_);
   side_tabs_->setObjectName("side-tabs");
   side_tabs_->addTab(margins_, tr("Loop margins"));
   side_tabs_->addTab(pressure_flow_, tr("Pressure-flow"));
@@ -164,6 +198,7 @@ MainWindow::MainWindow(Options options, QWidget* parent)
   trouble_scroll->setMinimumWidth(300);
   side_tabs_->addTab(trouble_scroll, tr("Troubleshooting"));
   splitter_->addWidget(side_tabs_);
+  splitter_->installEventFilter(this);
   splitter_->setCollapsible(0, false);  // the live charts never vanish
   splitter_->setCollapsible(1, true);
   splitter_->setStretchFactor(0, 1);
@@ -187,6 +222,7 @@ MainWindow::MainWindow(Options options, QWidget* parent)
   scroll->setWidget(controls_);
   scroll->setWidgetResizable(true);
   scroll->setHorizontalScrollBarPolicy(Qt::ScrollBarAlwaysOff);
+  scroll->setMinimumWidth(controls_->minimumSizeHint().width() + scroll->verticalScrollBar()->sizeHint().width() + 4);
   dock_->setWidget(scroll);
   addDockWidget(Qt::LeftDockWidgetArea, dock_);
 
@@ -209,6 +245,7 @@ MainWindow::MainWindow(Options options, QWidget* parent)
     if (!r.flow.empty()) series.emplace_back("load_flow", r.flow);
     traces_->addMeasuredOverlay(tr("recorded: %1").arg(QFileInfo(QString::fromStdString(r.source)).fileName()), r.time,
                                 series);
+    compare_->setRecordingAvailable(true);
     compareWithRecording();
   });
   connect(troubleshooting_, &TroubleshootingPanel::fitRequested, this,
@@ -367,6 +404,20 @@ void MainWindow::buildMenus() {
   connect(metric, &QAction::triggered, this, [this] { setUnits(UnitSystem::metric); });
   connect(us, &QAction::triggered, this, [this] { setUnits(UnitSystem::us); });
   view->addSeparator();
+  view->addAction(tr("&Strip charts"), QKeySequence(Qt::Key_F6), this, [this] { showView("charts"); });
+  view->addAction(tr("C&ircuit"), QKeySequence(Qt::Key_F7), this, [this] { showView("circuit"); });
+  QAction* room_view = view->addAction(tr("&Room view"), QKeySequence(Qt::Key_F10), this, [this] {
+    // The circuit beside the controls, the side panel out of the way: for a trainer's screen or projector.
+    const bool on = side_panel_action_->isChecked();
+    side_panel_action_->setChecked(!on);
+    if (on) showView("circuit");
+  });
+  room_view->setObjectName("room-view-action");
+  room_view->setToolTip(tr("The circuit with the controls, the side panel hidden (F10 again brings it back)"));
+  QAction* room = view->addAction(tr("Full &screen"), QKeySequence(Qt::Key_F11), this,
+                                  [this] { isFullScreen() ? showNormal() : showFullScreen(); });
+  room->setToolTip(tr("For the room: the window over the whole screen (F9 hides the side panel, F8 the controls)"));
+  view->addSeparator();
   side_panel_action_ = view->addAction(tr("&Side panel"));
   side_panel_action_->setObjectName("side-panel-action");
   side_panel_action_->setCheckable(true);
@@ -424,9 +475,16 @@ void MainWindow::resizeEvent(QResizeEvent* event) {
   adjustPanels();
 }
 
+bool MainWindow::eventFilter(QObject* watched, QEvent* event) {
+  // The splitter's own width is what is shared out: follow it (it is only
+  // known once the window is laid out).
+  if (watched == splitter_ && event->type() == QEvent::Resize) adjustPanels();
+  return QMainWindow::eventFilter(watched, event);
+}
+
 void MainWindow::adjustPanels() {
   const int total = splitter_->width();
-  if (total < 100) return;
+  if (total < 100 || !splitter_->isVisible()) return;
   if (!side_tabs_->isVisibleTo(this)) {
     splitter_->setSizes({total, 0});
     return;
@@ -436,9 +494,11 @@ void MainWindow::adjustPanels() {
   const QWidget* page = side_tabs_->currentWidget();
   if (page == margins_) share = loop_active_ ? 0.5 : 0.34;  // "loop inactive" needs little room
   if (page == pressure_flow_) share = 0.4;
+  if (centre_tabs_->currentWidget() != traces_) share = std::min(share, 0.34);  // the diagram and the table want the room
   if (user_side_share_) share = *user_side_share_;
   int side = static_cast<int>(share * total + 0.5);
-  const int page_needs = std::max(page ? page->minimumWidth() : 0, 240) + 8;
+  int page_needs = std::max(page ? page->minimumWidth() : 0, 240) + 8;
+  if (page == margins_ && loop_active_) page_needs = std::max(page_needs, 500);  // its figures stay legible
   side = std::max(side, page_needs);
   side = std::min(side, total - charts_at_least);
   splitter_->setSizes({total - std::max(side, 0), std::max(side, 0)});
@@ -447,6 +507,8 @@ void MainWindow::adjustPanels() {
 void MainWindow::setUnits(UnitSystem system) {
   units_ = system;
   traces_->setUnits(system);
+  circuit_->setUnits(system);
+  compare_->setUnits(system);
   pressure_flow_->setUnits(system);
   margins_->setUnits(system);
   editor_->setUnits(system);
@@ -455,6 +517,24 @@ void MainWindow::setUnits(UnitSystem system) {
   QSettings().setValue("units", system == UnitSystem::us ? "us" : "metric");
   if (QAction* a = findChild<QAction*>(system == UnitSystem::us ? "units-us" : "units-metric")) a->setChecked(true);
   refreshAnalysis(true);
+}
+
+bool MainWindow::showView(const QString& name) {
+  const QString n = name.toLower();
+  if (n == "room") {  // the circuit with the controls, no side panel
+    side_panel_action_->setChecked(false);
+    return showView("circuit");
+  }
+  QWidget* page = n == "charts"    ? static_cast<QWidget*>(traces_)
+                 : n == "circuit" ? static_cast<QWidget*>(circuit_)
+                 : n == "compare" ? static_cast<QWidget*>(compare_)
+                                  : nullptr;
+  for (int i = 0; i < centre_tabs_->count(); ++i)
+    if (centre_tabs_->widget(i) == page || centre_tabs_->tabText(i).compare(name, Qt::CaseInsensitive) == 0) {
+      centre_tabs_->setCurrentIndex(i);
+      return true;
+    }
+  return false;
 }
 
 bool MainWindow::showSideTab(const QString& title) {
@@ -485,6 +565,9 @@ void MainWindow::openStudy(const Scenario& study, const QString& path) {
   autosave_->beginSession(QString::fromStdString(study.name));
   traces_->clearOverlays();
   runs_overlaid_ = 0;
+  pressure_flow_->clearPrevious();
+  analysed_.reset();
+  compare_->setStudy(study);
   session_->load(study);
   session_->setTimeScale(controls_->timeScale());
   live_events_.clear();
@@ -932,6 +1015,32 @@ bool MainWindow::exportPressureFlow(const QString& path) {
   return exportPicture(pressure_flow_, path, tr("steady pressure-flow characteristic"));
 }
 
+bool MainWindow::addToComparison(const QString& what) {
+  bool added = false;
+  if (what == "opened") {
+    added = compare_->addDesign(tr("as opened"), study_, CompareView::Source::opened);
+  } else if (what == "present") {
+    added = compare_->addDesign(tr("as edited at t = %1").arg(seconds_text(session_->simulatedTime())), presentDesign(),
+                                CompareView::Source::present);
+  } else if (what == "recording") {
+    const auto& r = troubleshooting_->recording();
+    if (!r) {
+      statusBar()->showMessage(tr("Load a recording in the Troubleshooting tab first"), 6000);
+      return false;
+    }
+    added = compare_->addRecording(tr("recorded: %1").arg(QFileInfo(QString::fromStdString(r->source)).fileName()), *r);
+  } else if (const ParameterSpec* spec = find_parameter(what.toStdString())) {
+    Scenario design = presentDesign();
+    const double severity = troubleshooting_->severityOf(what);
+    spec->set(design.parameters, severity);
+    added = compare_->addDesign(tr("%1 %2").arg(what.mid(what.startsWith("faults.") ? 7 : 0).replace('_', ' '),
+                                              shown_value(*spec, severity, units_)),
+                                design, CompareView::Source::fault);
+  }
+  if (!added && !compare_->lastMessage().isEmpty()) showError(compare_->lastMessage());
+  return added;
+}
+
 bool MainWindow::runStudyToEnd() {
   try {
     const Scenario s = presentDesign();
@@ -981,6 +1090,7 @@ void MainWindow::onDisplayTick() {
   // flow follows the valve at once).
   const Sample latest = session_->latest();
   traces_->showPresent(latest);
+  if (circuit_->isVisible()) circuit_->setState(latest, present);
   pressure_flow_->setOperatingPoint(column_value(latest, "discharge_pressure"), column_value(latest, "load_flow"));
   updateSettingBanner(present, latest);
   const SolverStats stats = session_->solverStats();
@@ -1026,6 +1136,7 @@ void MainWindow::refreshNow() {
   if (!fresh.empty()) traces_->appendSamples(fresh);
   const Sample latest = session_->latest();
   traces_->showPresent(latest);
+  circuit_->setState(latest, session_->parametersNow());
   pressure_flow_->setOperatingPoint(column_value(latest, "discharge_pressure"), column_value(latest, "load_flow"));
   updateSettingBanner(session_->parametersNow(), latest);
   refreshAnalysis(false);
@@ -1034,6 +1145,14 @@ void MainWindow::refreshNow() {
 void MainWindow::refreshAnalysis(bool force) {
   const ModelParameters p = session_->parametersNow();
   if (!force && analysed_ && same_parameters(*analysed_, p)) return;
+  // What changed, to name the characteristic it replaces.
+  QString before;
+  if (analysed_)
+    for (const ParameterSpec& spec : parameter_registry())
+      if (spec.get(*analysed_) != spec.get(p) && spec.key != "load.opening") {
+        before = tr("before: %1 %2").arg(qs(spec.key), shown_value(spec, spec.get(*analysed_), units_));
+        break;
+      }
   analysed_ = p;
   // Both take a few milliseconds: fine on the UI thread, and only when a
   // parameter has actually moved.
@@ -1043,7 +1162,7 @@ void MainWindow::refreshAnalysis(bool force) {
     loop_active_ = report.model.loop_active;
     adjustPanels();
   }
-  pressure_flow_->setCharacteristic(steady_characteristic(p, study_.settings, 41), p.setting);
+  pressure_flow_->setCharacteristic(steady_characteristic(p, study_.settings, 41), p.setting, before);
 }
 
 }  // namespace swashtune::ui

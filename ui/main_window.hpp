@@ -84,6 +84,10 @@ class MainWindow : public QMainWindow {
   bool change(const QString& key, double value, double ramp = 0.0);
   void autosaveNow() { writeAutosave(); }
 
+  // Adds a design to the comparison, as its buttons do: "opened", "present",
+  // "recording", or a fault key (the design as edited with that fault).
+  bool addToComparison(const QString& what);
+
   bool exportTracesCsv(const QString& path);
   bool exportCharts(const QString& path);
   bool exportMargins(const QString& path);
@@ -119,6 +123,11 @@ class MainWindow : public QMainWindow {
   void setUnits(UnitSystem system);
   // Brings a side tab forward by its title ("Loop margins", "Troubleshooting", ...).
   bool showSideTab(const QString& title);
+  // Brings a centre view forward: "charts", "circuit" or "compare".
+  bool showView(const QString& name);
+  CircuitView* circuit() const { return circuit_; }
+  CompareView* compare() const { return compare_; }
+  QTabWidget* centreTabs() const { return centre_tabs_; }
   double framesPerSecond() const { return fps_; }
   long long framesDrawn() const { return frames_drawn_; }  // display updates with new samples
 
@@ -127,6 +136,7 @@ class MainWindow : public QMainWindow {
  protected:
   void closeEvent(QCloseEvent* event) override;
   void resizeEvent(QResizeEvent* event) override;
+  bool eventFilter(QObject* watched, QEvent* event) override;
 
  private:
   void buildMenus();
@@ -163,6 +173,9 @@ class MainWindow : public QMainWindow {
   ControlPanel* controls_;
   TroubleshootingPanel* troubleshooting_;
   QTabWidget* side_tabs_;
+  QTabWidget* centre_tabs_;
+  CircuitView* circuit_;
+  CompareView* compare_;
   QLabel* warning_;
   QLabel* status_time_;
   QLabel* status_rate_;
@@ -174,6 +187,7 @@ class MainWindow : public QMainWindow {
   QAction* side_panel_action_ = nullptr;
   std::optional<double> user_side_share_;  // the person dragged the splitter: keep their share
   bool loop_active_ = true;
+  bool side_hidden_for_compare_ = false;
   QMenu* recent_menu_ = nullptr;
   QAction* follow_action_ = nullptr;
 

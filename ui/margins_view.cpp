@@ -6,6 +6,7 @@
 #include <QEvent>
 #include <QFrame>
 #include <QGridLayout>
+#include <QScrollArea>
 #include <QHBoxLayout>
 #include <QLabel>
 #include <QVBoxLayout>
@@ -163,7 +164,7 @@ struct MarginsView::Impl : QObject {
 
   // The two charts side by side, or one above the other in a narrow panel.
   QBoxLayout* charts = nullptr;
-  static constexpr int stack_below_width = 720;  // px
+  static constexpr int stack_below_width = 900;  // px
 
   bool eventFilter(QObject* watched, QEvent* event) override {
     if (watched == view && (event->type() == QEvent::PaletteChange || event->type() == QEvent::FontChange))
@@ -179,7 +180,7 @@ void MarginsView::Impl::build() {
   layout->setContentsMargins(4, 4, 4, 4);
   // The view may be narrower than the charts side by side: it stacks them then.
   layout->setSizeConstraint(QLayout::SetNoConstraint);
-  view->setMinimumWidth(400);
+  view->setMinimumWidth(480);  // the figures' two columns need it
   charts = new QBoxLayout(QBoxLayout::LeftToRight);
   charts->setSpacing(6);
   eigen = new QCustomPlot(view);
@@ -188,7 +189,7 @@ void MarginsView::Impl::build() {
   bode->setObjectName(QStringLiteral("bode_chart"));
   charts->addWidget(eigen, 2);
   charts->addWidget(bode, 3);
-  layout->addLayout(charts, 1);
+  layout->addLayout(charts, 3);
   buildEigen();
   buildBode();
   buildPanel(layout);
@@ -379,7 +380,14 @@ void MarginsView::Impl::buildPanel(QVBoxLayout* layout) {
   // The two groups sit side by side at the left; spare width goes to the end.
   grid->setColumnMinimumWidth(2, 24);
   grid->setColumnStretch(5, 1);
-  layout->addWidget(panel);
+  // The figures scroll when the panel is short, so the charts keep their room.
+  auto* scroll = new QScrollArea(view);
+  scroll->setObjectName(QStringLiteral("margins_figures_scroll"));
+  scroll->setWidget(panel);
+  scroll->setWidgetResizable(true);
+  scroll->setFrameShape(QFrame::NoFrame);
+  scroll->setHorizontalScrollBarPolicy(Qt::ScrollBarAlwaysOff);
+  layout->addWidget(scroll, 2);
 }
 
 void MarginsView::Impl::applyStyle() {

@@ -5,6 +5,7 @@
 #include <QEvent>
 #include <QVBoxLayout>
 #include <algorithm>
+#include <cmath>
 #include <optional>
 
 #include "plot_style.hpp"
@@ -23,12 +24,15 @@ struct PressureFlowView::Impl : QObject {
   DisplayUnits units = DisplayUnits::make(UnitSystem::metric);
   QCustomPlot* plot = nullptr;
   QCPGraph* curve = nullptr;
+  QCPGraph* previous = nullptr;  // the characteristic before the last change, faint
   QCPGraph* point = nullptr;
   QCPItemStraightLine* settingLine = nullptr;
   QCPItemText* settingText = nullptr;
 
   // What was given, in SI, so a change of units can redraw it.
   std::optional<Characteristic> characteristic;
+  std::optional<Characteristic> before;
+  QString beforeName;
   double setting_pa = 0.0;
   std::optional<std::pair<double, double>> operating;  // pressure Pa, load flow m^3/s
   QCPRange baseX{0, 1}, baseY{0, 1};
@@ -62,6 +66,9 @@ void PressureFlowView::Impl::build() {
     a->setTickLabels(false);
   }
 
+  previous = plot->addGraph();
+  previous->setVisible(false);
+  previous->removeFromLegend();
   curve = plot->addGraph();
   curve->setName(QStringLiteral("steady characteristic"));
   point = plot->addGraph();
@@ -81,7 +88,12 @@ void PressureFlowView::Impl::build() {
   settingText->setVisible(false);
 
   plot->legend->setVisible(true);
-  plot->axisRect()->insetLayout()->setInsetAlignment(0, Qt::AlignBottom | Qt::AlignLeft);
+  // In a row of its own under the chart: it never covers the curve or the point.
+  plot->axisRect()->insetLayout()->take(plot->legend);
+  plot->plotLayout()->addElement(1, 0, plot->legend);
+  plot->plotLayout()->setRowStretchFactor(1, 0.001);
+  plot->legend->setFillOrder(QCPLegend::foColumnsFirst);
+  plot->legend->setWrap(2);
   view->installEventFilter(this);
   applyStyle();
   relabel();
@@ -108,6 +120,9 @@ void PressureFlowView::Impl::applyStyle() {
   point->setScatterStyle(disc);
   point->setPen(QPen(pointColour));
 
+  QPen faint(blend(curveColour, base, 0.55), 1.6, Qt::DashLine);
+  previous->setPen(faint);
+  previous->setScatterStyle(QCPScatterStyle::ssNone);
   const QColor settingColour = for_background(QColor(kSettingColour), dark);
   settingLine->setPen(QPen(settingColour, 1.5, Qt::DashLine));
   settingText->setColor(settingColour);
@@ -127,6 +142,24 @@ void PressureFlowView::Impl::relabel() {
 
 void PressureFlowView::Impl::redrawCharacteristic() {
   curve->data()->clear();
+  previous->data()->clear();
+  if (before) {
+    QVector<double> x, y;
+    for (const CharacteristicPoint& c : before->points) {
+      x.append(units.flow.to_display(c.load_flow));
+      y.append(units.pressure.to_display(c.discharge_pressure));
+    }
+    previous->setData(x, y);
+  }
+  const bool showBefore = before.has_value() && !before->points.empty();
+  if (showBefore != previous->visible()) {
+    previous->setVisible(showBefore);
+    if (showBefore)
+      previous->addToLegend();
+    else
+      previous->removeFromLegend();
+  }
+  previous->setName(beforeName);
   if (!characteristic || characteristic->points.empty()) {
     settingLine->setVisible(false);
     settingText->setVisible(false);
@@ -203,7 +236,29 @@ void PressureFlowView::setUnits(UnitSystem system) {
   d->plot->replot(QCustomPlot::rpQueuedReplot);
 }
 
-void PressureFlowView::setCharacteristic(const Characteristic& characteristic, double setting_pa) {
+namespace {
+
+bool same_curve(const Characteristic& a, const Characteristic& b) {
+  if (a.points.size() != b.points.size()) return false;
+  for (std::size_t i = 0; i < a.points.size(); ++i) {
+    const double dp = std::abs(a.points[i].discharge_pressure - b.points[i].discharge_pressure);
+    const double dq = std::abs(a.points[i].load_flow - b.points[i].load_flow);
+    // Below what the chart can show: 0.01 % of the pressure, 0.01 % of the flow.
+    if (dp > 1e-4 * std::max(std::abs(a.points[i].discharge_pressure), 1e5) ||
+        dq > 1e-4 * std::max(std::abs(a.points[i].load_flow), 1e-6))
+      return false;
+  }
+  return true;
+}
+
+}  // namespace
+
+void PressureFlowView::setCharacteristic(const Characteristic& characteristic, double setting_pa,
+                                         const QString& before) {
+  if (d->characteristic && !same_curve(*d->characteristic, characteristic)) {
+    d->before = d->characteristic;  // what it was, to see what the change did
+    d->beforeName = before.isEmpty() ? QStringLiteral("before the last change") : before;
+  }
   d->characteristic = characteristic;
   d->setting_pa = setting_pa;
   d->redrawCharacteristic();
@@ -218,6 +273,18 @@ void PressureFlowView::setOperatingPoint(double pressure_pa, double load_flow_m3
 }
 
 QCustomPlot* PressureFlowView::plot() const { return d->plot; }
+
+void PressureFlowView::clearPrevious() {
+  d->before.reset();
+  d->characteristic.reset();  // the next one starts afresh
+  d->beforeName.clear();
+  d->redrawCharacteristic();
+  d->placePoint();
+  d->plot->replot(QCustomPlot::rpQueuedReplot);
+}
+
+QString PressureFlowView::previousName() const { return d->before ? d->beforeName : QString(); }
+int PressureFlowView::previousPoints() const { return d->previous->visible() ? d->previous->dataCount() : 0; }
 
 std::optional<std::pair<double, double>> PressureFlowView::operatingPoint() const {
   if (d->point->data()->isEmpty()) return std::nullopt;

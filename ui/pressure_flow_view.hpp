@@ -19,7 +19,13 @@ class PressureFlowView : public QWidget {
   explicit PressureFlowView(QWidget* parent = nullptr);
   ~PressureFlowView() override;
   void setUnits(UnitSystem system);
-  void setCharacteristic(const Characteristic& characteristic, double setting_pa);
+  // A new characteristic; the one shown before stays as a faint curve named
+  // by `before` ("before: compensator.setting 210 bar") when it differs.
+  void setCharacteristic(const Characteristic& characteristic, double setting_pa, const QString& before = QString());
+  // The faint earlier curve's name and point count (empty, 0 when none is shown).
+  QString previousName() const;
+  void clearPrevious();  // a new study: nothing to compare with
+  int previousPoints() const;
   void setOperatingPoint(double pressure_pa, double load_flow_m3_s);  // the live point
   QCustomPlot* plot() const;
   // The operating point as drawn (display units: flow, pressure); nothing before the first.

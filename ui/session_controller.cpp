@@ -23,9 +23,14 @@ class SessionWorker : public QObject {
     wall_.start();
   }
 
+  // Live samples: 1 ms of wall time apart, or the study's own spacing when
+  // that is finer (a fast oscillation must not alias into slow beats).
+  double liveInterval() const { return std::min(SessionController::sampleIntervalFor(scale_), study_interval_); }
+
   void load(const Scenario& study) {
     Scenario s = study;
-    s.settings.sample_interval = SessionController::sampleIntervalFor(scale_);
+    study_interval_ = study.settings.sample_interval > 0.0 ? study.settings.sample_interval : 1e-3;
+    s.settings.sample_interval = liveInterval();
     session_ = std::make_unique<LiveSession>(s);
     running_ = false;
     publish({session_->sample_now()});  // the t = 0 row: present values and exports start there
@@ -46,7 +51,7 @@ class SessionWorker : public QObject {
 
   void setScale(double scale) {
     scale_ = scale;
-    if (session_) session_->set_sample_interval(SessionController::sampleIntervalFor(scale));
+    if (session_) session_->set_sample_interval(liveInterval());
   }
 
   // Advances and hands the samples over; false (with the message) on failure.
@@ -102,6 +107,7 @@ class SessionWorker : public QObject {
   QElapsedTimer wall_;
   std::atomic<bool> running_{false};
   std::atomic<double> scale_{1.0};
+  double study_interval_ = 1e-3;
   mutable std::mutex mutex_;
   std::vector<Sample> pending_;
   Snapshot snapshot_;

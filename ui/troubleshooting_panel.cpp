@@ -242,6 +242,12 @@ QDoubleSpinBox* TroubleshootingPanel::faultSeverity(const QString& key) const {
   return nullptr;
 }
 
+double TroubleshootingPanel::severityOf(const QString& key) const {
+  for (const FaultRow& f : faults_)
+    if (key_of(*f.spec) == key) return f.last_severity;
+  return 0.0;
+}
+
 bool TroubleshootingPanel::loadRecording(const QString& path) {
   try {
     recording_ = read_field_trace(path.toStdString());

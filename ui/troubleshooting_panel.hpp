@@ -62,6 +62,8 @@ class TroubleshootingPanel : public QWidget {
   // For tests: the on/off box and severity box of a fault key.
   QCheckBox* faultSwitch(const QString& key) const;
   QDoubleSpinBox* faultSeverity(const QString& key) const;
+  // The severity a fault is switched on with (stored units; the box's value).
+  double severityOf(const QString& key) const;
 
  signals:
   void changeRequested(const QString& key, double stored_value, double ramp_seconds);

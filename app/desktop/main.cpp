@@ -76,6 +76,8 @@ int main(int argc, char** argv) {
   const QCommandLineOption time_scale("time-scale", "With --measure: simulated per wall time, 1 down to 0.001.",
                                       "SCALE", "1");
   const QCommandLineOption tab("tab", "With --screenshot: the side tab to show (e.g. \"Troubleshooting\").", "TITLE");
+  const QCommandLineOption view("view", "With --screenshot: the view to show: charts, circuit, room (the circuit without the side panel) or compare.",
+                                "NAME", "charts");
   const QCommandLineOption size("size", "With --screenshot: the window size, e.g. 1280x800 (default).", "WxH",
                                 "1280x800");
   const QCommandLineOption save_as(
@@ -85,7 +87,7 @@ int main(int argc, char** argv) {
       "change", "With --save-as: a change made at the start, KEY=VALUE in stored units (repeatable).", "KEY=VALUE");
   const QCommandLineOption repeat("repeat", "With --save-as: save this many times (a crash test's target).", "N", "1");
   const QList<QCommandLineOption> options{help_option, version_option, screenshot, scenario,
-                                          run_for,     measure,        time_scale, tab,
+                                          run_for,     measure,        time_scale, tab, view,
                                           size,        save_as,        change,     repeat};
 
   // --help and --version need no display: answered before any window system is touched.
@@ -181,6 +183,11 @@ int main(int argc, char** argv) {
       return fail("--size: expected WIDTHxHEIGHT from 640x480 to 7680x4320, e.g. 1280x800", exit_bad_input);
     window.resize(width, height);
     window.traces()->setWindowSeconds(std::max(seconds, 0.01));  // the whole run in view
+    if (parser.value(view) == "compare")  // something to compare: the study, two faults, the present design
+      for (const char* what : {"opened", "faults.entrained_air", "faults.line_volume_factor"})
+        window.addToComparison(what);
+    if (!window.showView(parser.value(view)))
+      return fail("--view: expected charts, circuit, room or compare, got \"" + parser.value(view) + "\"", exit_bad_input);
     if (parser.isSet(tab) && !window.showSideTab(parser.value(tab)))
       return fail("--tab: no side tab called \"" + parser.value(tab) + "\"", exit_bad_input);
     window.show();
