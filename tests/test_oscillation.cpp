@@ -151,11 +151,14 @@ TEST_P(SustainedWithNoise, IsSustainedWithTheRightFrequencyAndAmplitude) {
   EXPECT_LT(std::abs(r.damping_ratio), OscillationOptions{}.sustained_damping);
   EXPECT_NEAR(r.noise / sigma, 1.0, 0.15);
   EXPECT_GE(r.cycles, 25);
-  // The mean of the analysed part, t in [0.2, 1] (the default skips 20 %).
+  // The mean of the analysed part: all of it, t in [0, 1] (nothing is skipped by default).
   double expected_mean = 0.0;
-  const int n = 800;
-  for (int i = 0; i < n; ++i) expected_mean += GetParam().mean(0.2 + 0.8 * (i + 0.5) / n) / n;
+  const int n = 1000;
+  for (int i = 0; i < n; ++i) expected_mean += GetParam().mean((i + 0.5) / n) / n;
   EXPECT_NEAR(r.mean, expected_mean, 0.05 * amplitude);
+  EXPECT_EQ(r.analysed_from, 0.0);
+  EXPECT_EQ(r.analysed_to, 1.0);
+  EXPECT_EQ(r.analysed_samples, s.t.size());
 }
 
 INSTANTIATE_TEST_SUITE_P(
@@ -179,7 +182,9 @@ TEST(Oscillation, FirstOrderStepWithNoiseIsSettled) {
     EXPECT_EQ(r.peak_to_peak, 0.0);
     EXPECT_EQ(r.cycles, 0);
     EXPECT_NEAR(r.noise / 0.05, 1.0, 0.15);
-    EXPECT_NEAR(r.mean, 5.0, 0.05);
+    // The mean of 5 (1 - exp(-t / tau)) over the whole 0.5 s analysed:
+    // 5 (1 - (tau / 0.5) (1 - exp(-0.5 / tau))).
+    EXPECT_NEAR(r.mean, 5.0 * (1.0 - tau / 0.5 * (1.0 - std::exp(-0.5 / tau))), 0.01);
   }
 }
 
@@ -194,14 +199,19 @@ TEST(Oscillation, WhiteNoiseAloneIsSettled) {
 }
 
 // A step at the start of the stretch (first-order rise with a time constant
-// of half a period, Ogata) under a steady sinusoid: the skipped start keeps
-// it out of the measurement.
-TEST(Oscillation, StepAtTheStartOfTheStretchIsSkipped) {
+// of half a period, Ogata) under a steady sinusoid: a skipped start keeps it
+// out of the measurement, and the report says what was analysed.
+TEST(Oscillation, StepAtTheStartOfTheStretchIsSkippedWhenAsked) {
   const double amplitude = 1.0;
   Signal s{uniform_times(1.0, 4000.0), {}};
   for (double ti : s.t) s.y.push_back(50.0 * (1.0 - std::exp(-ti / 0.02)) + amplitude * std::sin(2.0 * pi * 25.0 * ti));
   add_noise(s, 0.05 * amplitude, 7);
-  const OscillationReport r = analyse_oscillation(s.t, s.y);
+  OscillationOptions skip;
+  skip.skip_fraction = 0.2;
+  const OscillationReport r = analyse_oscillation(s.t, s.y, std::nullopt, std::nullopt, skip);
+  EXPECT_EQ(r.analysed_from, 0.2);
+  EXPECT_EQ(r.analysed_to, 1.0);
+  EXPECT_EQ(r.analysed_samples, 3201u);
   EXPECT_EQ(r.kind, OscillationKind::sustained) << to_string(r.kind);
   EXPECT_NEAR(r.frequency_hz / 25.0, 1.0, 0.02);
   EXPECT_NEAR(r.peak_to_peak / (2.0 * amplitude), 1.0, 0.10);

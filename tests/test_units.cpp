@@ -209,6 +209,34 @@ TEST(Units, RegistryUnitsParseAndAgree) {
   for (const SettingSpec& s : setting_registry()) check(s.key, s.unit, s.metric_unit, s.us_unit);
 }
 
+// What loggers and people at a command line write: trade spellings in any
+// case, exponents without '^'. Factors from NIST SP 811 as above.
+TEST(Units, RelaxedSpellings) {
+  expect_relative(parse_unit_relaxed("PSI").factor, kPsi, 1e-15, "PSI");
+  expect_relative(parse_unit_relaxed("Psi").factor, kPsi, 1e-15, "Psi");
+  EXPECT_EQ(parse_unit_relaxed("RPM").dimension, parse_unit("rpm").dimension);
+  expect_relative(parse_quantity_relaxed("1800RPM").si(), 1800.0 * 2.0 * pi / 60.0, 1e-15, "1800RPM");
+  expect_relative(parse_unit_relaxed("cm3/rev").factor, 1e-6 / (2.0 * pi), 1e-15, "cm3/rev");
+  EXPECT_EQ(parse_unit_relaxed("cm3/rev").dimension, dim::displacement);
+  expect_relative(parse_unit_relaxed("CM3/REV").factor, 1e-6 / (2.0 * pi), 1e-15, "CM3/REV");
+  expect_relative(parse_unit_relaxed("m3/s").factor, 1.0, 1e-15, "m3/s");
+  expect_relative(parse_unit_relaxed("KPA").factor, 1e3, 1e-15, "KPA");
+  expect_relative(parse_unit_relaxed("BAR").factor, kBar, 1e-15, "BAR");
+  expect_relative(parse_unit_relaxed("lpm").factor, 1e-3 / 60.0, 1e-15, "lpm");
+  expect_relative(parse_unit_relaxed("L/MIN").factor, 1e-3 / 60.0, 1e-15, "L/MIN");
+  expect_relative(parse_quantity_relaxed("1kHz").si(), 1000.0, 1e-15, "1kHz");
+  expect_relative(parse_quantity_relaxed("1 KHZ").si(), 1000.0, 1e-15, "1 KHZ");
+  expect_relative(parse_quantity_relaxed("100MS").si(), 0.1, 1e-15, "100MS");
+  expect_relative(parse_unit_relaxed("\xC2\xB5s").factor, 1e-6, 1e-15, "micro sign");
+  // Exact spellings keep their meaning: "mL" is a millilitre, "MPa" a megapascal.
+  expect_relative(parse_unit_relaxed("MPa").factor, 1e6, 1e-15, "MPa");
+  expect_relative(parse_unit_relaxed("mpa").factor, 1e6, 1e-15, "mpa: no millipascal in the table");
+  EXPECT_THROW(parse_unit_relaxed("furlong"), UnitError);
+  // Scenario files stay strict.
+  EXPECT_THROW(parse_unit("PSI"), UnitError);
+  EXPECT_THROW(parse_unit("cm3/rev"), UnitError);
+}
+
 TEST(Units, DimensionNames) {
   EXPECT_EQ(dimension_name(dim::pressure), "pressure");
   EXPECT_EQ(dimension_name(dim::mass), "mass");

@@ -3,8 +3,8 @@
 
 #include <CLI/CLI.hpp>
 #include <cerrno>
-#include <cmath>
 #include <chrono>
+#include <cmath>
 #include <cstdint>
 #include <cstdio>
 #include <cstring>
@@ -17,6 +17,8 @@
 #include <stdexcept>
 #include <string>
 
+#include "field_commands.hpp"
+#include "shown_units.hpp"
 #include "swashtune/analysis.hpp"
 #include "swashtune/atomic_file.hpp"
 #include "swashtune/field_trace.hpp"
@@ -42,63 +44,12 @@ constexpr int exit_out_of_memory = 4;
 // `stability` runs a scenario with dry friction to show its oscillation, up to this long.
 constexpr double max_guide_run_duration = 60.0;  // s simulated
 
-struct PressureUnit {
-  const char* name;
-  double per_pascal;
-};
-
-PressureUnit pressure_unit(UnitSystem units) {
-  switch (units) {
-    case UnitSystem::si:
-      return {"Pa", 1.0};
-    case UnitSystem::metric:
-      return {"bar", 1e-5};
-    case UnitSystem::us:
-      return {"psi", convert(1.0, "Pa", "psi")};
-  }
-  return {"Pa", 1.0};
-}
-
-// A length as the unit system shows it (spool travel: mm or in).
-PressureUnit length_unit(UnitSystem units) {
-  switch (units) {
-    case UnitSystem::si:
-      return {"m", 1.0};
-    case UnitSystem::metric:
-      return {"mm", 1e3};
-    case UnitSystem::us:
-      return {"in", convert(1.0, "m", "in")};
-  }
-  return {"m", 1.0};
-}
-
-// The unit a parameter is shown in: its registry metric or US display unit
-// ("L", "%", "psi"), the stored unit for si or where none is given.
-struct ShownUnit {
-  std::string name;  // empty for a plain number
-  double per_stored;
-  std::string format(double stored, int digits = 6) const {
-    if (!std::isfinite(stored)) return "(unknown)";
-    char buffer[64];
-    std::snprintf(buffer, sizeof buffer, "%.*g", digits, stored * per_stored);
-    return name.empty() ? std::string(buffer) : std::string(buffer) + " " + name;
-  }
-};
-
-ShownUnit parameter_unit(const ParameterSpec& spec, UnitSystem units) {
-  std::string_view shown = units == UnitSystem::us       ? spec.us_unit
-                           : units == UnitSystem::metric ? spec.metric_unit
-                                                         : spec.unit;
-  if (shown.empty()) shown = spec.unit;
-  if (shown == "-") return {"", 1.0};
-  return {std::string(shown), convert(1.0, spec.unit, shown)};
-}
-
-UnitSystem units_option(const std::string& name) {
-  const auto units = parse_unit_system(name);
-  if (!units) throw ScenarioError("--units: expected si, metric or us, got \"" + name + "\"");
-  return *units;
-}
+using cli::length_unit;
+using cli::parameter_unit;
+using cli::pressure_unit;
+using cli::PressureUnit;
+using cli::ShownUnit;
+using cli::units_option;
 
 // load_scenario, with its warnings on stderr.
 Scenario load_study(const std::string& path) {
@@ -232,8 +183,8 @@ void print_stability(const StabilityReport& r, UnitSystem units) {
   std::printf("  discharge %.2f %s, control %.2f %s\n", x[state::discharge_pressure] * pu.per_pascal, pu.name,
               x[state::control_pressure] * pu.per_pascal, pu.name);
   std::printf("  swash %.4f deg (%s), spool %.*f %s (%s)\n", x[state::swash_angle] * 180.0 / pi,
-              stop_name(modes.swash, true), units == UnitSystem::metric ? 5 : 6, x[state::spool_position] * lu.per_pascal,
-              lu.name, stop_name(modes.spool, false));
+              stop_name(modes.swash, true), units == UnitSystem::metric ? 5 : 6,
+              x[state::spool_position] * lu.per_pascal, lu.name, stop_name(modes.spool, false));
   std::printf("Closed-loop modes:\n  %14s %14s %12s %12s %10s\n", "Re [1/s]", "Im [rad/s]", "f_n [Hz]", "f_d [Hz]",
               "damping");
   for (const Mode& m : r.modes)
@@ -365,76 +316,6 @@ int steady_command(const std::string& scenario_path, int points, bool json, cons
                 c.pump_flow * flow_factor, c.load_flow * flow_factor, c.swash_angle * 180.0 / pi, to_string(c.method));
   std::printf("deadhead pressure %.2f %s; cut-in pressure %s %s\n", ch.deadhead_pressure * pu.per_pascal, pu.name,
               ch.cut_in_pressure ? optional_text(*ch.cut_in_pressure * pu.per_pascal, "%.2f").c_str() : "none",
-              pu.name);
-  std::printf("%s\n", safety_notice_short);
-  return exit_ok;
-}
-
-void add_trace_options(CLI::App* command, FieldTraceOptions& o) {
-  command->add_option("--time-column", o.time_column, "Time column: header name or 1-based number");
-  command->add_option("--pressure-column", o.pressure_column, "Pressure column: header name or 1-based number");
-  command->add_option("--flow-column", o.flow_column, "Flow column (\"none\" to ignore one)");
-  command->add_option("--time-unit", o.time_unit, "Unit of the time column, e.g. ms (default: from the header)");
-  command->add_option("--pressure-unit", o.pressure_unit, "Unit of the pressure column, e.g. psi (gauge)");
-  command->add_option("--flow-unit", o.flow_unit, "Unit of the flow column, e.g. L/min");
-}
-
-int field_command(const std::string& path, const FieldTraceOptions& options, std::optional<double> from,
-                  std::optional<double> to, bool json, const std::string& units_name) {
-  const UnitSystem units = units_option(units_name);
-  const PressureUnit pu = pressure_unit(units);
-  const FieldTrace trace = read_field_trace(path, options);
-  const OscillationReport o = analyse_oscillation(trace.time, trace.pressure, from, to);
-  if (json) {
-    std::cout << field_json(trace, o);
-    return exit_ok;
-  }
-  std::printf("%s: %zu samples from %.6g s to %.6g s (time from \"%s\", pressure from \"%s\")\n", trace.source.c_str(),
-              trace.time.size(), trace.time.front(), trace.time.back(), trace.time_header.c_str(),
-              trace.pressure_header.c_str());
-  std::printf("pressure: %s", to_string(o.kind));
-  if (o.kind != OscillationKind::settled)
-    std::printf(" at %.4g Hz, %.3g %s peak to peak, damping ratio %.4f, envelope %+.3g 1/s over %d cycles",
-                o.frequency_hz, o.peak_to_peak * pu.per_pascal, pu.name, o.damping_ratio, o.growth_rate, o.cycles);
-  std::printf("; mean %.*f %s, noise %.3g %s\n", units == UnitSystem::metric ? 2 : 1, o.mean * pu.per_pascal, pu.name,
-              o.noise * pu.per_pascal, pu.name);
-  return exit_ok;
-}
-
-int fit_command(const std::string& scenario_path, const std::string& trace_path, const FieldTraceOptions& trace_options,
-                const std::string& free, bool json, const std::string& out_path, const std::string& units_name) {
-  const UnitSystem units = units_option(units_name);
-  const PressureUnit pu = pressure_unit(units);
-  const Scenario scenario = load_study(scenario_path);
-  const FieldTrace trace = read_field_trace(trace_path, trace_options);
-  FitOptions options;
-  std::string rest = free;
-  while (!rest.empty()) {
-    const auto comma = rest.find(',');
-    options.free_keys.push_back(rest.substr(0, comma));
-    rest = comma == std::string::npos ? "" : rest.substr(comma + 1);
-  }
-  const bool terminal = ::isatty(::fileno(stderr)) != 0;  // progress only where a person watches
-  const FitResult fit = fit_to_trace(scenario, trace, options, [terminal, pu](int simulations, double rms) {
-    if (terminal)
-      std::fprintf(stderr, "\rfit: %d simulations, rms residual %.4g %s   ", simulations, rms * pu.per_pascal, pu.name);
-    return true;
-  });
-  if (terminal) std::fprintf(stderr, "\n");
-  if (!out_path.empty()) write_file_atomically(out_path, scenario_to_toml(fit.fitted));
-  if (json) {
-    std::cout << fit_json(fit);
-    return exit_ok;
-  }
-  std::printf("fit of %s to %s (%d samples, %d simulations): %s\n", scenario_path.c_str(), trace.source.c_str(),
-              fit.samples, fit.simulations, fit.message.c_str());
-  for (const FittedParameter& p : fit.parameters) {
-    const ShownUnit u = parameter_unit(*find_parameter(p.key), units);
-    std::printf("  %-32s %s -> %s +- %s%s%s\n", p.key.c_str(), u.format(p.initial).c_str(), u.format(p.value).c_str(),
-                u.format(p.standard_error, 2).c_str(), p.note.empty() ? "" : "  (",
-                p.note.empty() ? "" : (p.note + ")").c_str());
-  }
-  std::printf("rms residual %.4g %s (was %.4g %s)\n", fit.rms * pu.per_pascal, pu.name, fit.initial_rms * pu.per_pascal,
               pu.name);
   std::printf("%s\n", safety_notice_short);
   return exit_ok;
@@ -674,30 +555,7 @@ int main(int argc, char** argv) {
   steady->add_flag("--json", json, "Print JSON (SI)");
   steady->add_option("--units", units_name, "Units of the table: si, metric or us")->capture_default_str();
 
-  FieldTraceOptions trace_options;
-  std::string trace_path, free_keys, fitted_path;
-  std::optional<double> window_from, window_to;
-  CLI::App* field =
-      app.add_subcommand("field", "Read a pressure trace recorded on a machine and analyse its oscillation");
-  field->add_option("TRACE", trace_path, "CSV file: time and pressure columns (comma, semicolon or tab)")->required();
-  field->add_option("--from", window_from, "Analyse from this time, s");
-  field->add_option("--to", window_to, "Analyse up to this time, s");
-  field->add_flag("--json", json, "Print JSON (SI)");
-  field->add_option("--units", units_name, "Units of the report: si, metric or us")->capture_default_str();
-  add_trace_options(field, trace_options);
-
-  CLI::App* fit =
-      app.add_subcommand("fit", "Estimate parameters so the simulated pressure reproduces a recorded trace");
-  fit->add_option("SCENARIO", scenario_path,
-                  "Scenario that reproduces the recording's events (its time is the trace's)")
-      ->required();
-  fit->add_option("--trace", trace_path, "Recorded trace (CSV)")->required();
-  fit->add_option("--free", free_keys, "Parameters to estimate, comma-separated, e.g. line.volume,fluid.air_fraction")
-      ->required();
-  fit->add_option("--out", fitted_path, "Also write the scenario with the fitted values to this file");
-  fit->add_flag("--json", json, "Print JSON (SI)");
-  fit->add_option("--units", units_name, "Units of the report: si, metric or us")->capture_default_str();
-  add_trace_options(fit, trace_options);
+  cli::FieldCommands field_commands(app);  // field, fit
 
   bool markdown = false;
   CLI::App* parameters =
@@ -749,8 +607,7 @@ int main(int argc, char** argv) {
     if (*parameters) return parameters_command(markdown);
     if (*stability) return stability_command(scenario_path, opening, json, map_axes, bode_path, units_name);
     if (*steady) return steady_command(scenario_path, points, json, units_name);
-    if (*field) return field_command(trace_path, trace_options, window_from, window_to, json, units_name);
-    if (*fit) return fit_command(scenario_path, trace_path, trace_options, free_keys, json, fitted_path, units_name);
+    if (field_commands.chosen()) return field_commands.run();
     if (*sweep) return sweep_command(sweep_options);
     if (*merge) return merge_command(merge_out, merge_inputs);
   } catch (const ScenarioError& e) {

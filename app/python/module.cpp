@@ -13,6 +13,7 @@
 
 #include "swashtune/analysis.hpp"
 #include "swashtune/atomic_file.hpp"
+#include "swashtune/field_analysis.hpp"
 #include "swashtune/field_trace.hpp"
 #include "swashtune/fit.hpp"
 #include "swashtune/metrics.hpp"
@@ -183,6 +184,16 @@ std::string sweep(const Scenario& base, const std::vector<std::string>& vary, st
   return sorted_sweep_table(sweep_header(sweep), std::move(rows), "sweep");
 }
 
+// A quantity from Python: a number in SI, or a string with its unit ("1kHz").
+double quantity_of(const py::handle& value, const std::string& name, const Dimension& d) {
+  if (!py::isinstance<py::str>(value)) return value.cast<double>();
+  const Quantity q = parse_quantity_relaxed(value.cast<std::string>());
+  if (q.has_unit && q.unit.dimension != d)
+    throw std::invalid_argument(name + ": expected " + dimension_name(d) + ", got \"" + value.cast<std::string>() +
+                                "\"");
+  return q.si();
+}
+
 FieldTraceOptions trace_options(const py::dict& options) {
   FieldTraceOptions o;
   for (const auto& [key, value] : options) {
@@ -193,18 +204,28 @@ FieldTraceOptions trace_options(const py::dict& options) {
       o.time_column = text;
     else if (name == "pressure_column")
       o.pressure_column = text;
+    else if (name == "control_column")
+      o.control_column = text;
+    else if (name == "load_column")
+      o.load_column = text;
     else if (name == "flow_column")
       o.flow_column = text;
+    else if (name == "speed_column")
+      o.speed_column = text;
     else if (name == "time_unit")
       o.time_unit = text;
     else if (name == "pressure_unit")
       o.pressure_unit = text;
     else if (name == "flow_unit")
       o.flow_unit = text;
+    else if (name == "rate")
+      o.sample_rate = quantity_of(value, name, dim::time.power(-1));
+    else if (name == "atmosphere")
+      o.atmospheric_pressure = quantity_of(value, name, dim::pressure);
     else
-      throw std::invalid_argument(
-          "unknown recording option \"" + name +
-          "\"; expected time_column, pressure_column, flow_column, time_unit, pressure_unit or flow_unit");
+      throw std::invalid_argument("unknown recording option \"" + name +
+                                  "\"; expected time_column, pressure_column, control_column, load_column, "
+                                  "flow_column, speed_column, time_unit, pressure_unit, flow_unit, rate or atmosphere");
   }
   return o;
 }
@@ -223,10 +244,19 @@ py::dict read_trace(const std::string& path, const py::dict& options) {
 }
 
 std::string field(const std::string& path, const py::dict& options, std::optional<double> from,
-                  std::optional<double> to) {
-  const FieldTrace trace = read_field_trace(path, trace_options(options));
+                  std::optional<double> to, std::optional<double> pistons, std::optional<double> speed_rpm,
+                  std::optional<double> event_threshold) {
+  const FieldTraceOptions read = trace_options(options);
+  FieldAnalysisOptions analysis;
+  analysis.from = from;
+  analysis.to = to;
+  analysis.pistons = pistons;
+  analysis.speed = speed_rpm;
+  analysis.event_threshold = event_threshold;
+  if (pistons) analysis.ripple_source = "--pistons";
+  if (speed_rpm) analysis.ripple_source = pistons ? "--pistons, --speed" : "--speed";
   py::gil_scoped_release unlocked;
-  return field_json(trace, analyse_oscillation(trace.time, trace.pressure, from, to));
+  return field_analysis_json(analyse_field_file(path, read, analysis));
 }
 
 std::string oscillation(const std::vector<double>& t, const std::vector<double>& y, std::optional<double> from,
@@ -320,7 +350,8 @@ PYBIND11_MODULE(_swashtune, m) {
   m.def("sweep", &sweep, py::arg("scenario"), py::arg("vary"), py::arg("samples"), py::arg("seed"), py::arg("jobs"),
         py::arg("shard"));
   m.def("read_field_trace", &read_trace, py::arg("path"), py::arg("options"));
-  m.def("field", &field, py::arg("path"), py::arg("options"), py::arg("t_from"), py::arg("t_to"));
+  m.def("field", &field, py::arg("path"), py::arg("options"), py::arg("t_from"), py::arg("t_to"), py::arg("pistons"),
+        py::arg("speed_rpm"), py::arg("event_threshold"));
   m.def("analyse_oscillation", &oscillation, py::arg("t"), py::arg("y"), py::arg("t_from"), py::arg("t_to"));
   m.def("fit", &fit, py::arg("scenario"), py::arg("trace"), py::arg("options"), py::arg("free"),
         py::arg("max_iterations"));

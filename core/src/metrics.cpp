@@ -34,6 +34,37 @@ bool oscillating(const OscillationReport& o) { return o.kind != OscillationKind:
 
 }  // namespace
 
+void pressure_figures(const EventWindow& w, double initial, double final_value,
+                      const OscillationReport& end_oscillation, double band_floor, EventMetrics& m) {
+  m.initial_discharge_pressure = initial;
+  m.final_discharge_pressure = final_value;
+  m.change = m.final_discharge_pressure - m.initial_discharge_pressure;
+  m.band =
+      std::max({band_of_change * std::abs(m.change), band_of_final * std::abs(m.final_discharge_pressure), band_floor});
+  m.peak_discharge_pressure = w.peak_pressure();
+  if (std::abs(m.change) < m.band || m.band == 0.0) {
+    m.note = note_no_change;  // nothing measurable happened: no figures
+    return;
+  }
+  if (m.change > 0.0)
+    m.overshoot_percent = 100.0 * (m.peak_discharge_pressure - m.final_discharge_pressure) / m.change;
+  else
+    m.undershoot_percent = 100.0 * (m.final_discharge_pressure - w.lowest_pressure()) / (-m.change);
+  // Settled means staying within the band to the window's end; an
+  // oscillation at the end larger than the band never does.
+  const double window = w.end() - w.start();
+  const bool large = end_oscillation.peak_to_peak > 2.0 * m.band;
+  if (end_oscillation.kind == OscillationKind::sustained && large) {
+    m.note = note_hunting;
+  } else if ((oscillating(end_oscillation) && large) ||
+             w.pressure_span_after(w.end() - end_stretch * window) > 2.0 * m.band) {
+    m.note = note_not_settled;
+  } else {
+    m.settling_time =
+        w.settled_from(m.final_discharge_pressure - m.band, m.final_discharge_pressure + m.band) - w.start();
+  }
+}
+
 std::vector<EventMetrics> event_metrics(const Scenario& scenario, const RunResult& result) {
   std::vector<EventMetrics> out;
   const auto& events = scenario.events;
@@ -47,36 +78,10 @@ std::vector<EventMetrics> event_metrics(const Scenario& scenario, const RunResul
       continue;
     }
     const EventWindow& w = result.windows[i];
-    m.initial_discharge_pressure = w.initial_pressure();
-    m.final_discharge_pressure = w.final_pressure();
-    m.change = m.final_discharge_pressure - m.initial_discharge_pressure;
-    m.band = std::max(band_of_change * std::abs(m.change), band_of_final * std::abs(m.final_discharge_pressure));
-    m.peak_discharge_pressure = w.peak_pressure();
+    pressure_figures(w, w.initial_pressure(), w.final_pressure(), w.oscillation(), 0.0, m);
     m.oscillation = w.oscillation();
     m.oscillation_from = w.oscillation_from();
     m.oscillation_to = w.oscillation_to();
-
-    if (std::abs(m.change) < m.band || m.band == 0.0) {
-      m.note = note_no_change;  // nothing measurable happened: no figures
-    } else {
-      if (m.change > 0.0)
-        m.overshoot_percent = 100.0 * (m.peak_discharge_pressure - m.final_discharge_pressure) / m.change;
-      else
-        m.undershoot_percent = 100.0 * (m.final_discharge_pressure - w.lowest_pressure()) / (-m.change);
-      // Settled means staying within the band to the window's end; an
-      // oscillation at the end larger than the band never does.
-      const double window = w.end() - w.start();
-      const bool large = m.oscillation.peak_to_peak > 2.0 * m.band;
-      if (m.oscillation.kind == OscillationKind::sustained && large) {
-        m.note = note_hunting;
-      } else if ((oscillating(m.oscillation) && large) ||
-                 w.pressure_span_after(w.end() - end_stretch * window) > 2.0 * m.band) {
-        m.note = note_not_settled;
-      } else {
-        m.settling_time =
-            w.settled_from(m.final_discharge_pressure - m.band, m.final_discharge_pressure + m.band) - w.start();
-      }
-    }
 
     // The swash: 10 % and 90 % of its change over the window, first reached.
     const double a0 = w.initial_angle(), a1 = w.final_angle(), swing = a1 - a0;

@@ -113,6 +113,8 @@ double median(std::vector<double> v) {
   return 0.5 * (*middle + *std::max_element(v.begin(), middle));
 }
 
+}  // namespace
+
 // Standard deviation of white noise on samples first..last. Each sample is
 // compared with the cubic through its two neighbours on either side, which
 // follows any smooth signal to fourth order in the sample interval; the
@@ -138,6 +140,8 @@ double noise_level(const std::vector<double>& t, const std::vector<double>& y, s
   for (double& r : residuals) r = std::abs(r - centre);
   return mad_to_sigma * median(residuals);
 }
+
+namespace {
 
 // y on n points equally spaced from t[first] to t[last] (n = the number of
 // samples there), by linear interpolation.
@@ -181,8 +185,11 @@ std::vector<double> remove_line(std::vector<double> x) {
 // a drift at the low edge is not taken for an oscillation.
 std::optional<double> dominant_frequency(const std::vector<double>& x, double dt) {
   const std::size_t n = x.size();
+  // Zero padding to four times the length places the peak between bins; a
+  // long stretch has fine bins already, and twice keeps its memory bounded.
+  const std::size_t padding = n > (std::size_t{1} << 16) ? 2 : 4;
   std::size_t nfft = 1;
-  while (nfft < 4 * n) nfft *= 2;
+  while (nfft < padding * n) nfft *= 2;
   std::vector<double> windowed(nfft, 0.0);
   for (std::size_t k = 0; k < n; ++k)
     windowed[k] = x[k] * 0.5 * (1.0 - std::cos(two_pi * static_cast<double>(k) / static_cast<double>(n - 1)));
@@ -424,6 +431,9 @@ OscillationReport analyse_oscillation(const std::vector<double>& t, const std::v
   const auto first = static_cast<std::size_t>(std::lower_bound(lower, upper, skip_to) - t.begin());
 
   OscillationReport report;
+  report.analysed_from = t[first];
+  report.analysed_to = t[last];
+  report.analysed_samples = last + 1 - first;
   report.noise = noise_level(t, y, first, last);
   if (last < first + 1) {
     report.mean = y[last];

@@ -338,15 +338,6 @@ std::string bode_csv(const std::vector<BodePoint>& bode) {
   return out;
 }
 
-std::string field_json(const FieldTrace& trace, const OscillationReport& report) {
-  std::ostringstream o;
-  o << "{\n  \"source\": " << json_string(trace.source) << ",\n  \"samples\": " << trace.time.size()
-    << ",\n  \"time_from_s\": " << json_number(trace.time.front())
-    << ",\n  \"time_to_s\": " << json_number(trace.time.back()) << ",\n  \"oscillation\": " << oscillation_json(report)
-    << "\n}\n";
-  return o.str();
-}
-
 std::string fit_json(const FitResult& fit) {
   std::ostringstream o;
   o << "{\n  \"parameters\": [";

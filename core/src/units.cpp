@@ -57,6 +57,7 @@ constexpr NamedUnit kUnits[] = {
     {"min", 60.0, dim::time},
     {"h", 3600.0, dim::time},
     {"Hz", 1.0, dim::time.power(-1)},
+    {"kHz", 1e3, dim::time.power(-1)},
     // angle and speed
     {"rad", 1.0, dim::angle},
     {"deg", pi / 180.0, dim::angle},
@@ -86,7 +87,7 @@ constexpr NamedUnit kUnits[] = {
 //   primary := name | '(' product ')'
 class UnitParser {
  public:
-  explicit UnitParser(std::string_view text) : text_(text) {}
+  explicit UnitParser(std::string_view text, bool relaxed = false) : text_(text), relaxed_(relaxed) {}
 
   Unit parse() {
     skip_space();
@@ -132,7 +133,9 @@ class UnitParser {
 
   Unit power() {
     Unit u = primary();
-    if (accept('^')) {
+    // Relaxed: an exponent may follow the name directly ("cm3/rev", "m3/s").
+    const bool bare_exponent = relaxed_ && pos_ < text_.size() && std::isdigit(static_cast<unsigned char>(text_[pos_]));
+    if (bare_exponent || accept('^')) {
       skip_space();
       std::size_t start = pos_;
       if (pos_ < text_.size() && (text_[pos_] == '-' || text_[pos_] == '+')) ++pos_;
@@ -163,11 +166,33 @@ class UnitParser {
     if (name.empty()) fail("expected a unit name");
     for (const NamedUnit& n : kUnits)
       if (n.name == name) return Unit{n.factor, 0.0, n.dimension};
+    if (relaxed_) {
+      // Any case, when every name that matches means the same unit ("L" and
+      // "l"); "PSI", "RPM", "KPA" are what loggers and people write.
+      const NamedUnit* match = nullptr;
+      bool ambiguous = false;
+      for (const NamedUnit& n : kUnits) {
+        if (!same_letters(n.name, name)) continue;
+        if (match && (match->factor != n.factor || match->dimension != n.dimension)) ambiguous = true;
+        match = &n;
+      }
+      if (match && !ambiguous) return Unit{match->factor, 0.0, match->dimension};
+      if (ambiguous) fail("'" + std::string(name) + "' is ambiguous in any case; write it as the unit is spelt");
+    }
     fail("'" + std::string(name) + "' is not a known unit");
+  }
+
+  static bool same_letters(std::string_view a, std::string_view b) {
+    if (a.size() != b.size()) return false;
+    for (std::size_t i = 0; i < a.size(); ++i)
+      if (std::tolower(static_cast<unsigned char>(a[i])) != std::tolower(static_cast<unsigned char>(b[i])))
+        return false;
+    return true;
   }
 
   static constexpr int max_exponent = 12;
   std::string_view text_;
+  bool relaxed_ = false;
   std::size_t pos_ = 0;
 };
 
@@ -228,7 +253,38 @@ Unit parse_unit(std::string_view text) {
   return UnitParser(text).parse();
 }
 
-Quantity parse_quantity(std::string_view text) {
+Unit parse_unit_relaxed(std::string_view text) {
+  std::string t(trim(text));
+  for (std::string_view micro : {"\xC2\xB5", "\xCE\xBC"})  // U+00B5 and U+03BC
+    for (std::size_t at = t.find(micro); at != std::string::npos; at = t.find(micro)) t.replace(at, micro.size(), "u");
+  std::string folded;
+  for (char c : t) folded += static_cast<char>(std::tolower(static_cast<unsigned char>(c)));
+  if (folded == "degc" || folded ==
+                              "\xC2\xB0"
+                              "c")
+    return parse_unit("degC");
+  if (folded == "degf" || folded ==
+                              "\xC2\xB0"
+                              "f")
+    return parse_unit("degF");
+  if (folded == "lpm") return parse_unit("L/min");
+  if (t == "-") return Unit{};
+  try {
+    return UnitParser(t).parse();  // exactly as spelt first: "Pa", never "PA" read as something else
+  } catch (const UnitError&) {
+    return UnitParser(t, true).parse();
+  }
+}
+
+namespace {
+Quantity parse_quantity_with(std::string_view text, Unit (*unit_parser)(std::string_view));
+}
+
+Quantity parse_quantity(std::string_view text) { return parse_quantity_with(text, parse_unit); }
+Quantity parse_quantity_relaxed(std::string_view text) { return parse_quantity_with(text, parse_unit_relaxed); }
+
+namespace {
+Quantity parse_quantity_with(std::string_view text, Unit (*unit_parser)(std::string_view)) {
   std::string_view s = trim(text);
   if (s.empty()) throw UnitError("expected a number with a unit, got an empty string");
   // from_chars: independent of the C locale (a desktop session may set one
@@ -245,9 +301,10 @@ Quantity parse_quantity(std::string_view text) {
   Quantity q;
   q.value = value;
   q.has_unit = !unit_text.empty();
-  q.unit = parse_unit(unit_text);
+  q.unit = unit_parser(unit_text);
   return q;
 }
+}  // namespace
 
 double convert_to(std::string_view quantity_text, std::string_view target_unit) {
   const Quantity q = parse_quantity(quantity_text);

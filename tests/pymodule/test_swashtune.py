@@ -175,11 +175,15 @@ def test_a_shard_holds_its_points():
 
 def test_a_recording_reads_and_analyses_as_in_the_cli():
     path = os.path.join(FIELD, "line2-pusher-hunting.csv")
-    expected = json.loads(cli("field", path, "--from", 0.15, "--json").stdout)
+    expected = json.loads(cli("field", path, "--from", "150ms", "--json").stdout)
     assert swashtune.field(path, t_from=0.15) == expected
+    assert expected["analysed"]["from_s"] >= 0.15
+    with_pump = json.loads(cli("field", path, "--pistons", 9, "--speed", "1800rpm", "--json").stdout)
+    assert swashtune.field(path, pistons=9, speed_rpm=1800) == with_pump
     trace = swashtune.read_field_trace(path)
-    assert trace["time_s"].shape == trace["pressure_Pa"].shape == (expected["samples"],)
-    assert trace["time_s"][0] == expected["time_from_s"]
+    everything = json.loads(cli("field", path, "--json").stdout)
+    assert trace["time_s"].shape == trace["pressure_Pa"].shape == (everything["reading"]["kept"],)
+    assert trace["time_s"][0] == everything["reading"]["first_time_s"]
 
 
 def test_a_fit_is_the_clis(tmp_path):

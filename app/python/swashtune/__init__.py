@@ -337,9 +337,21 @@ def read_field_trace(path: str | os.PathLike, **options) -> dict:
     return _core.read_field_trace(os.fspath(path), options)
 
 
-def field(path: str | os.PathLike, t_from: float | None = None, t_to: float | None = None, **options) -> dict:
-    """The oscillation analysis of a recording (`swashtune-cli field --json`)."""
-    return json.loads(_core.field(os.fspath(path), options, t_from, t_to))
+def field(
+    path: str | os.PathLike,
+    t_from: float | None = None,
+    t_to: float | None = None,
+    pistons: float | None = None,
+    speed_rpm: float | None = None,
+    event_threshold: float | None = None,
+    **options,
+) -> dict:
+    """The analysis of a recording (`swashtune-cli field --json`): the part analysed
+    (t_from, t_to in s), the ripple (with pistons and speed_rpm), the events
+    (event_threshold in Pa) and the verdict per stretch; `options` as for
+    read_field_trace, also control_column, load_column, speed_column, rate and
+    atmosphere (SI numbers, or strings with units such as "1kHz")."""
+    return json.loads(_core.field(os.fspath(path), options, t_from, t_to, pistons, speed_rpm, event_threshold))
 
 
 def analyse_oscillation(t, y, t_from: float | None = None, t_to: float | None = None) -> dict:

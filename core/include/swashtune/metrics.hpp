@@ -43,6 +43,15 @@ inline constexpr const char* note_not_settled = "does not settle within the wind
 // Window i runs from event i to event i+1 (or the end of the run).
 std::vector<EventMetrics> event_metrics(const Scenario& scenario, const RunResult& result);
 
+// The pressure figures of one window (initial, final, change, band, peak,
+// overshoot or undershoot, settling time, note) from an EventWindow fed with
+// the pressure, for any source of samples: a run takes initial and final as
+// the window's first and last values and end_oscillation as the window's
+// own analysis; a recording takes averages, the analysis of its stretch from
+// the peak, and widens the band to band_floor for its noise.
+void pressure_figures(const EventWindow& w, double initial, double final_value,
+                      const OscillationReport& end_oscillation, double band_floor, EventMetrics& m);
+
 // Linear interpolation of one trace column at time t (clamped to the trace).
 double trace_value_at(const std::vector<Sample>& trace, double t, double (*column)(const Sample&));
 

@@ -28,8 +28,9 @@ struct OscillationOptions {
   // |damping ratio| below this counts as sustained (neither decaying nor growing).
   double sustained_damping = 0.005;
   // Fraction of the stretch skipped at its start, where a step or the event
-  // itself would spoil the envelope fit.
-  double skip_fraction = 0.2;
+  // itself would spoil the envelope fit. Nothing by default: a caller that
+  // skips says so (the report states the part analysed).
+  double skip_fraction = 0.0;
 };
 
 struct OscillationReport {
@@ -41,8 +42,16 @@ struct OscillationReport {
   double damping_ratio = 0.0;  // d / sqrt(4 pi^2 + d^2) (Thomson & Dahleh); < 0 grows
   int cycles = 0;              // whole cycles analysed
   double noise = 0.0;          // estimated noise level (standard deviation), signal units
-  double mean = 0.0;           // mean level over the analysed stretch
+  double mean = 0.0;           // mean level over the analysed part
+  // The part analysed: the stretch less the skipped start.
+  double analysed_from = 0.0, analysed_to = 0.0;
+  std::size_t analysed_samples = 0;
 };
+
+// Standard deviation of white measurement noise on y(t), samples first..last
+// (inclusive), from the pseudo-residuals of a local cubic (Gasser, Sroka and
+// Jennen-Steinmetz 1986) spread by the MAD; 0 for fewer than five samples.
+double noise_level(const std::vector<double>& t, const std::vector<double>& y, std::size_t first, std::size_t last);
 
 // Analyses y(t) over [t_from, t_to] (the whole signal when the bounds are
 // not given). t must be increasing. Throws std::invalid_argument for bad

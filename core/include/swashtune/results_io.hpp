@@ -72,7 +72,6 @@ std::string stability_map_json(const StabilityMap& map);
 std::string bode_csv(const std::vector<BodePoint>& bode);
 
 // A recording's oscillation analysis (field --json) and a fit (fit --json).
-std::string field_json(const FieldTrace& trace, const OscillationReport& report);
 std::string fit_json(const FitResult& fit);
 
 // JSON helpers shared by the writers: finite numbers in the shortest form that reads back exactly,

@@ -10,6 +10,13 @@ inline constexpr const char* safety_notice_short =
     "lock out and relieve pressure before adjusting, verify every setting with a gauge, and follow local codes, "
     "the machine's documentation and qualified practice.";
 
+// The same for reports on a recording from a machine (field, fit).
+inline constexpr const char* safety_notice_recording =
+    "Caution: a recording shows one machine under one set of conditions, and a fitted model only what fits it. "
+    "Hydraulic systems store pressure and oil jets cause injection injuries: lock out and relieve pressure before "
+    "adjusting, verify every setting with a gauge, and follow local codes, the machine's documentation and "
+    "qualified practice.";
+
 // The full text for Help and the README.
 inline constexpr const char* safety_notice_full =
     "Swashtune computes what a model predicts; it does not know your machine. Before acting on a figure:\n"

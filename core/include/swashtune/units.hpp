@@ -92,6 +92,14 @@ struct Quantity {
 // Parses "number [unit]", e.g. "3000 psi", "1.2e-3 m^3", "17deg". Throws UnitError.
 Quantity parse_quantity(std::string_view text);
 
+// As parse_unit and parse_quantity, for what loggers and people at a command
+// line write: a unit spelt exactly is taken as such; otherwise names in any
+// case where that is not ambiguous ("PSI", "RPM", "KPA", "HZ"), exponents
+// without '^' ("cm3/rev", "m3/s"), a micro sign for "u", "lpm" for L/min.
+// Scenario files keep the strict spelling. Throws UnitError.
+Unit parse_unit_relaxed(std::string_view text);
+Quantity parse_quantity_relaxed(std::string_view text);
+
 // Converts a quantity string into the given target unit (e.g. a parameter's
 // unit "rev/min"), checking that the dimensions agree. A bare number is
 // taken to be in the target unit already. Throws UnitError.
