@@ -361,3 +361,40 @@ TEST_F(Cli, TenHourRunStaysUnderAMemoryCeiling) {
   std::printf("10-hour run: peak resident size %.1f MB\n", peak_mb);
   EXPECT_LT(peak_mb, 64.0);
 }
+
+// A legal but implausible value: a warning on stderr naming file:line, key,
+// the value as read and what was probably meant; exit 0, or 2 with --strict.
+TEST_F(Cli, ImplausibleValuesWarnAndStrictRefuses) {
+  const fs::path file = write("psi.toml", "[compensator]\nsetting = 3000\n");
+  const Outcome plain = cli("check " + file.string());
+  EXPECT_EQ(plain.exit_code, 0);
+  EXPECT_NE(plain.err.find("warning: " + file.string() + ":2: compensator.setting = 3000: 3000 Pa = 0.03 bar"),
+            std::string::npos)
+      << plain.err;
+  EXPECT_NE(plain.err.find("did you mean 3000 psi = 206.8 bar?"), std::string::npos) << plain.err;
+  EXPECT_EQ(plain.out.find("did you mean"), std::string::npos);  // warnings go to stderr only
+  for (const char* command : {"check", "stability", "steady"}) {
+    const Outcome strict = cli(std::string(command) + " --strict " + file.string());
+    EXPECT_EQ(strict.exit_code, 2) << command;
+    EXPECT_NE(strict.err.find("--strict"), std::string::npos) << strict.err;
+  }
+  const Outcome run = cli("run --strict " + file.string() + " --out " + (dir_ / "r").string());
+  EXPECT_EQ(run.exit_code, 2);
+  EXPECT_FALSE(fs::exists(dir_ / "r" / "summary.json"));
+  EXPECT_EQ(cli("check --strict " + demo).exit_code, 0);
+}
+
+// A run that peaks above the line's rated pressure prints a caution with the
+// safety words and records it in summary.json.
+TEST_F(Cli, PeakAboveTheRatedPressureIsCautioned) {
+  const fs::path file = write("rated.toml",
+                              "[line]\nrated_pressure = \"220 bar\"\n\n[[events]]\nat = 0.1\n"
+                              "set = \"load.opening\"\nto = 0\nramp = \"5 ms\"\n");
+  const Outcome o = cli("run " + file.string() + " --out " + (dir_ / "r").string());
+  ASSERT_EQ(o.exit_code, 0) << o.err;
+  EXPECT_NE(o.out.find("above the line's rated pressure of 220.0 bar"), std::string::npos) << o.out;
+  EXPECT_NE(o.out.find("lock out"), std::string::npos);
+  const std::string json = slurp(dir_ / "r" / "summary.json");
+  EXPECT_NE(json.find("\"cautions\": [\n    \"Caution: the simulated discharge pressure peaks at"), std::string::npos)
+      << json;
+}

@@ -297,6 +297,26 @@ class DesktopTest : public QObject {
     QVERIFY(w.findChild<QWidget*>("error-box") != nullptr);
   }
 
+  // A legal but implausible value opens, with the same warning the CLI prints.
+  void implausibleValueShowsTheLoadersWarning() {
+    QTemporaryDir dir;
+    const QString file = dir.filePath("psi.toml");
+    write_file_atomically(file.toStdString(), "[compensator]\nsetting = 3000\n");
+    MainWindow w(quiet());
+    QVERIFY(w.openFile(file));
+    const QString shown = w.inputWarningsText();
+    QVERIFY2(shown.contains("psi.toml:2: compensator.setting = 3000"), qPrintable(shown));
+    QVERIFY(shown.contains("did you mean 3000 psi = 206.8 bar?"));
+    QProcess cli;
+    cli.start(SWASHTUNE_CLI, {"check", file});
+    QVERIFY(cli.waitForFinished(30000));
+    QCOMPARE(cli.exitCode(), 0);
+    QString printed = QString::fromUtf8(cli.readAllStandardError()).trimmed();
+    QCOMPARE(shown, printed.replace("warning: ", "Warning: "));
+    QVERIFY(w.openFile(demo));  // a plausible study: no banner
+    QVERIFY(w.inputWarningsText().isEmpty());
+  }
+
   // Exports through the File menu: the traces' CSV from the t = 0 row, the
   // charts, the margins and the pressure-flow view as pictures with a title
   // naming the study.

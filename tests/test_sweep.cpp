@@ -195,6 +195,7 @@ TEST_F(Sweep, OpeningTakesTheMarginsThereAndOnlyWhereTheyApply) {
   for (int i = 1; i <= 2; ++i) {
     EXPECT_EQ(split(start[i], ',').at(gm), "");
     EXPECT_EQ(split(start[i], ',').at(opening), "1");
+    EXPECT_EQ(split(start[i], ',').at(applies), "false");  // full stroke: the loop is inactive
   }
   const Outcome plain = cli("sweep " + scenario_ + " --vary \"line.volume=0.25 L:1 L:2\" --out " + path("again.csv"));
   EXPECT_NE(plain.out.find("--opening"), std::string::npos) << plain.out;  // the note says how to get margins

@@ -137,6 +137,7 @@ MainWindow::MainWindow(Options options, QWidget* parent)
       circuit_(new CircuitView),
       compare_(new CompareView),
       warning_(new QLabel),
+      input_warnings_(new QLabel),
       status_time_(new QLabel),
       status_rate_(new QLabel),
       display_timer_(new QTimer(this)),
@@ -157,6 +158,14 @@ MainWindow::MainWindow(Options options, QWidget* parent)
   // Amber with black text reads the same on light and dark palettes.
   warning_->setStyleSheet("QLabel { background: #f2c14e; color: #1a1a1a; padding: 8px; border-radius: 4px; }");
   centre_layout->addWidget(warning_);
+  // The loader's warnings about the opened file, in core's words.
+  input_warnings_->setObjectName("input-warnings");
+  input_warnings_->setWordWrap(true);
+  input_warnings_->setTextFormat(Qt::PlainText);
+  input_warnings_->setTextInteractionFlags(Qt::TextSelectableByMouse);
+  input_warnings_->setVisible(false);
+  input_warnings_->setStyleSheet("QLabel { background: #f2c14e; color: #1a1a1a; padding: 8px; border-radius: 4px; }");
+  centre_layout->addWidget(input_warnings_);
   splitter_ = new QSplitter(Qt::Horizontal);
   splitter_->setObjectName("main-splitter");
   centre_tabs_->setObjectName("centre-tabs");
@@ -573,6 +582,10 @@ void MainWindow::openStudy(const Scenario& study, const QString& path) {
   live_events_.clear();
   changes_->clear();
   setModified(false);
+  QStringList warnings;
+  for (const std::string& w : study.warnings) warnings << tr("Warning: %1").arg(QString::fromStdString(w));
+  input_warnings_->setText(warnings.join(QLatin1Char('\n')));
+  input_warnings_->setVisible(!warnings.isEmpty());
   updateTitle();
 }
 
@@ -943,6 +956,9 @@ void MainWindow::updateSettingBanner(const ModelParameters& p, const Sample& now
 
 bool MainWindow::warningShown() const { return warning_->isVisibleTo(this); }
 QString MainWindow::warningText() const { return warning_->text(); }
+QString MainWindow::inputWarningsText() const {
+  return input_warnings_->isVisibleTo(this) ? input_warnings_->text() : QString();
+}
 
 void MainWindow::showError(const QString& message) {
   last_error_ = message;

@@ -113,6 +113,9 @@ class MainWindow : public QMainWindow {
   void compareWithRecording();
   bool warningShown() const;
   QString warningText() const;
+  // The loader's warnings about the opened study (implausible values, an
+  // empty file), as core words them; empty when there are none.
+  QString inputWarningsText() const;
   QString lastError() const { return last_error_; }
   const Scenario& study() const { return study_; }
   QString studyPath() const { return study_path_; }
@@ -177,6 +180,7 @@ class MainWindow : public QMainWindow {
   CircuitView* circuit_;
   CompareView* compare_;
   QLabel* warning_;
+  QLabel* input_warnings_;
   QLabel* status_time_;
   QLabel* status_rate_;
   QTimer* display_timer_;

@@ -25,6 +25,7 @@
 #include "swashtune/fit.hpp"
 #include "swashtune/metrics.hpp"
 #include "swashtune/oscillation.hpp"
+#include "swashtune/plausibility.hpp"
 #include "swashtune/results_io.hpp"
 #include "swashtune/safety.hpp"
 #include "swashtune/scenario.hpp"
@@ -52,9 +53,15 @@ using cli::ShownUnit;
 using cli::units_option;
 
 // load_scenario, with its warnings on stderr.
+// --strict: a warning about the input ends the command with exit 2.
+bool strict_input = false;
+
 Scenario load_study(const std::string& path) {
   Scenario scenario = load_scenario(path);
   for (const std::string& warning : scenario.warnings) std::cerr << "warning: " << warning << "\n";
+  if (strict_input && !scenario.warnings.empty())
+    throw ScenarioError(path + ": --strict: " + std::to_string(scenario.warnings.size()) +
+                        " warning(s) about the input (above); correct the file, or leave out --strict to go on");
   return scenario;
 }
 
@@ -133,6 +140,9 @@ int run_command(const std::string& scenario_path, const std::string& out_dir, co
                 result.start.simulated_time);
   std::printf("peak discharge pressure %.1f %s\n", result.peak_discharge_pressure * pu.per_pascal, pu.name);
   for (const EventMetrics& m : metrics) print_event(m, pu);
+  // Cautions end in the safety notice themselves.
+  const std::vector<std::string> cautions = peak_cautions(scenario, result);
+  for (const std::string& caution : cautions) std::printf("%s\n", caution.c_str());
   const Sample& last = result.final_sample;
   std::printf("final: %.1f %s, pump flow %.2f L/min, swash %.3f deg\n",
               last.x[state::discharge_pressure] * pu.per_pascal, pu.name, last.pump_flow * 6e4,
@@ -140,7 +150,7 @@ int run_command(const std::string& scenario_path, const std::string& out_dir, co
   const SolverStats& s = result.stats;
   std::printf("solver: %lld steps, %lld rejected, %lld rhs, %lld jacobians, %lld stop events, %.3f s wall\n", s.steps,
               s.rejected_steps, s.rhs_evaluations, s.jacobian_evaluations, s.stop_events, s.wall_time_s);
-  std::printf("%s\n", safety_notice_short);
+  if (cautions.empty()) std::printf("%s\n", safety_notice_short);
   return exit_ok;
 }
 
@@ -590,6 +600,10 @@ int main(int argc, char** argv) {
       app.add_subcommand("merge", "Join the CSV tables of a sweep's shards into one, sorted by point index");
   merge->add_option("OUT", merge_out, "Merged table (written atomically)")->required();
   merge->add_option("INPUTS", merge_inputs, "Tables written by sweep --shard")->required();
+
+  for (CLI::App* command : {run, check, stability, steady, sweep})
+    command->add_flag("--strict", strict_input,
+                      "Treat a warning about the input (a legal but implausible value) as an error: exit 2");
 
   try {
     app.parse(argc, argv);

@@ -85,6 +85,7 @@ std::vector<ParameterSpec> make_parameters() {
 
     {"line.volume", "V_d", "m^3", 1.0e-3, positive(10.0), "oil volume between pump and load valve", "L", "in^3", &P::line_volume},
     {"line.tank_pressure", "p_t", "Pa", 0.0, non_negative(1e7), "case and tank pressure", "bar", "psi", &P::tank_pressure},
+    with_word({"line.rated_pressure", "p_rated", "Pa", inf, positive(1e9), "rated pressure of the discharge line and its parts: a run that peaks above it prints a caution (\"none\": not given)", "bar", "psi", &P::rated_pressure}, "none", inf),
 
     {"load.valve_area", "A_v", "m^2", 56.9e-6, positive(1.0), "flow area of the load needle valve fully open", "mm^2", "in^2", &P::valve_area},
     {"load.discharge_coefficient", "Cd_v", "-", 0.7, Range{0.0, 1.0, true, false}, "discharge coefficient of the load valve", "-", "-", &P::valve_discharge_coefficient},

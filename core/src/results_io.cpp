@@ -5,6 +5,7 @@
 #include <cstdio>
 #include <sstream>
 
+#include "swashtune/plausibility.hpp"
 #include "swashtune/units.hpp"
 #include "text_helpers.hpp"
 
@@ -159,6 +160,10 @@ std::string summary_json(const Scenario& scenario, const RunResult& result, cons
       << ", \"oscillation_to_s\": " << json_number(e.oscillation_to) << " }";
   }
   o << (events.empty() ? "],\n" : "\n  ],\n");
+  const std::vector<std::string> cautions = peak_cautions(scenario, result);
+  o << "  \"cautions\": [";
+  for (std::size_t i = 0; i < cautions.size(); ++i) o << (i ? ",\n    " : "\n    ") << json_string(cautions[i]);
+  o << (cautions.empty() ? "],\n" : "\n  ],\n");
   o << "  \"initial_state\": {\n";
   o << "    \"method\": " << json_string(to_string(result.start.method)) << ",\n";
   o << "    \"converged\": " << (result.start.converged ? "true" : "false") << "\n";

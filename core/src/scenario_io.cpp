@@ -18,6 +18,7 @@
 #include <vector>
 
 #include "swashtune/atomic_file.hpp"
+#include "swashtune/plausibility.hpp"
 #include "swashtune/scenario.hpp"
 #include "swashtune/units.hpp"
 #include "text_helpers.hpp"
@@ -164,6 +165,9 @@ class Reader {
     // Events last: their times are checked against the duration.
     if (events) read_events(*events, scenario);
     sort_events(scenario.events);
+    // Legal but probably not meant: the plausibility rules (plausibility.hpp).
+    for (std::string& w : relation_warnings(scenario, source_, written_)) warnings_.push_back(std::move(w));
+    scenario.warnings.insert(scenario.warnings.end(), warnings_.begin(), warnings_.end());
     return scenario;
   }
 
@@ -236,7 +240,7 @@ class Reader {
   }
 
   template <class Owner>
-  void read_field(const FieldSpec<Owner>& spec, const toml::node& node, Owner& owner) const {
+  void read_field(const FieldSpec<Owner>& spec, const toml::node& node, Owner& owner) {
     const std::string key(spec.key);
     if (spec.is_flag()) {
       const auto* b = node.as_boolean();
@@ -249,6 +253,7 @@ class Reader {
       return;
     }
     const double value = read_quantity(node, key, spec.unit, example_of(spec));
+    note_written(key, node, value);
     if (!spec.range.contains(value)) {
       const std::string unit = spec.unit == "-" ? "" : " " + std::string(spec.unit);
       std::string expected = quantity_name(spec.unit) + " " + spec.range.describe(spec.unit);
@@ -261,6 +266,22 @@ class Reader {
       fail(line_of(node.source()), key, "expected " + expected + ", got " + got);
     }
     spec.set(owner, value);
+  }
+
+  // How a value was written, and a warning when it is legal but implausible.
+  void note_written(const std::string& key, const toml::node& node, double value, const std::string& name = "") {
+    WrittenValue w;
+    w.line = line_of(node.source());
+    w.plain_number = node.is_number();
+    const auto* text = node.as_string();
+    w.as_read = text ? string_literal(text->get()) : format_number(value);
+    if (const auto i = node.as_integer()) w.as_read = std::to_string(i->get());
+    const std::string where = source_ + ":" + std::to_string(w.line);
+    if (auto warning = plausibility_warning(where, key, value, w.plain_number, w.as_read)) {
+      if (!name.empty()) warning->insert(where.size() + 2, name + ": ");  // "file:7: events[0].to: ..."
+      warnings_.push_back(std::move(*warning));
+    }
+    if (name.empty()) written_[key] = std::move(w);
   }
 
   // The key's default in its display unit, e.g. "210 bar", as a hint.
@@ -308,7 +329,7 @@ class Reader {
              " samples; at most 1e8 are allowed (choose a longer sample_interval or a shorter duration)");
   }
 
-  void read_events(const toml::node& node, Scenario& scenario) const {
+  void read_events(const toml::node& node, Scenario& scenario) {
     const auto* array = node.as_array();
     if (!array)
       fail(line_of(node.source()), "events", "expected [[events]] tables (an array of tables), got " + describe(node));
@@ -322,7 +343,7 @@ class Reader {
     }
   }
 
-  Event read_event(const toml::table& table, const std::string& name, const Scenario& scenario) const {
+  Event read_event(const toml::table& table, const std::string& name, const Scenario& scenario) {
     const int line = line_of(table.source());
     const toml::node* fields[std::size(kEventKeys)] = {};  // at, set, to, ramp
     for (const auto& [key, node] : in_file_order(table)) {
@@ -359,6 +380,7 @@ class Reader {
     Event probe = harmless;
     probe.to = event.to;
     check(*to, probe);
+    note_written(event.target, *to, event.to, name + ".to");
 
     event.at = read_quantity(*at, name + ".at", "s", "0.1 s");
     probe = harmless;
@@ -375,6 +397,8 @@ class Reader {
   }
 
   std::string source_;
+  std::map<std::string, WrittenValue, std::less<>> written_;  // the keys the file sets, as written
+  std::vector<std::string> warnings_;
   std::map<std::string, int> key_lines_;      // "line.volume" -> its line in the file
   std::map<std::string, int> section_lines_;  // "compensator" -> the line of its header
 };

@@ -71,6 +71,7 @@ struct ModelParameters {
   // discharge line
   double line_volume = 0;
   double tank_pressure = 0;
+  double rated_pressure = 0;  // Pa, of the line and its parts (+inf: not given); only for the caution after a run
   // load needle valve
   double valve_area = 0;
   double valve_discharge_coefficient = 0;
