@@ -154,6 +154,16 @@ inline Answers::Answer accept_suggestion(const QString& dialog, QString* suggest
           }};
 }
 
+// Reads the file a dialog suggests, then closes it as a person who changed their mind.
+inline Answers::Answer read_suggestion_and_cancel(const QString& dialog, QString* suggested) {
+  return {dialog, [suggested](QWidget* w) {
+            auto* fd = qobject_cast<QFileDialog*>(w);
+            auto* edit = w->findChild<QLineEdit*>(QStringLiteral("fileNameEdit"));
+            if (fd && edit) *suggested = QDir(fd->directory()).filePath(edit->text());
+            QTest::keyClick(w, Qt::Key_Escape);
+          }};
+}
+
 inline Answers::Answer escape(const QString& dialog) {
   return {dialog, [](QWidget* w) { QTest::keyClick(w, Qt::Key_Escape); }};
 }

@@ -325,6 +325,14 @@ TEST_F(Cli, ResultFilesCarryNoFloatNoise) {
     EXPECT_EQ(text.find("00000000"), std::string::npos);
     EXPECT_EQ(text.find("99999999"), std::string::npos);
   }
+  // Sweep values are the decimals of the grid (1.125 L, not 0.0011250000000000001 m^3).
+  ASSERT_EQ(cli("sweep " + scenario.string() + " --vary \"line.volume=1 L:1.25 L:3\" --out " +
+                (dir_ / "sweep.csv").string())
+                .exit_code,
+            0);
+  const std::string sweep = slurp(dir_ / "sweep.csv");
+  EXPECT_NE(sweep.find("\n1,0.001125,"), std::string::npos) << sweep;
+  EXPECT_NE(sweep.find("\n2,0.00125,"), std::string::npos) << sweep;
   const Outcome check = cli("check " + scenario.string() + " --json");
   ASSERT_EQ(check.exit_code, 0) << check.err;
   EXPECT_NE(check.out.find("\"line.volume\": 0.001125"), std::string::npos) << check.out;

@@ -170,6 +170,31 @@ class SessionTest : public QObject {
     QCOMPARE(file_hash(own), original);
   }
 
+  // The suggested name of a first save is never a shipped example's and
+  // always a file name any system takes.
+  void firstSaveSuggestsANewSafeName() {
+    QTemporaryDir dir;
+    MainWindow w(asking(dir.filePath("autosave")));
+    QVERIFY(show_active(w));
+    QVERIFY(w.openFile(demo));
+    type_into(w.controls()->settingBox(), "190");
+    QString suggested;
+    Answers answers({read_suggestion_and_cancel("save-session-dialog", &suggested)});
+    press(w, Qt::Key_S, Qt::ControlModifier);
+    QTRY_VERIFY(answers.done());
+    QVERIFY2(!is_shipped_example(suggested), qPrintable(suggested));
+    QCOMPARE(QFileInfo(suggested).fileName(), QString("valve-slam-session.toml"));
+    QVERIFY(w.isModified());  // cancelled: nothing written, nothing lost
+    Scenario named;
+    named.name = "Hot press 2: clamp / supply";
+    w.openStudy(named, QString());
+    type_into(w.controls()->settingBox(), "190");
+    Answers again({read_suggestion_and_cancel("save-session-dialog", &suggested)});
+    press(w, Qt::Key_S, Qt::ControlModifier);
+    QTRY_VERIFY(again.done());
+    QCOMPARE(QFileInfo(suggested).fileName(), QString("Hot-press-2-clamp-supply-session.toml"));
+  }
+
   // Every path that would drop unsaved changes asks, and Cancel keeps them.
   void everyCloseOrOpenPathAsks() {
     QTemporaryDir dir;

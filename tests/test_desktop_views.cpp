@@ -98,6 +98,10 @@ class ViewsTest : public QObject {
         QVERIFY2(share >= 0.4, qPrintable(QString("%1x%2, %3: charts %4 of %5 px").arg(size.width()).arg(size.height())
                                               .arg(tab).arg(w.centreTabs()->width()).arg(w.width())));
         for (QCustomPlot* plot : w.traces()->plots()) QVERIFY(plot->axisRect()->width() > 250);
+        qInfo("%dx%d %s: controls %d px, charts %d px (%.0f %%), side panel %d px, chart plot area %dx%d px",
+              size.width(), size.height(), qPrintable(tab), w.controlsDock()->width(), w.centreTabs()->width(),
+              100.0 * share, w.sideTabs()->width(), w.traces()->plots()[0]->axisRect()->width(),
+              w.traces()->plots()[0]->axisRect()->height());
       }
       click_tab(w.sideTabs(), "Loop margins");
       settle();

@@ -135,6 +135,7 @@ CompareView::CompareView(QWidget* parent) : QWidget(parent) {
   pressure_plot_->legend->setBorderPen(Qt::NoPen);
   pressure_plot_->legend->setBrush(Qt::NoBrush);
   swash_plot_->legend->setVisible(false);
+  pressure_plot_->installEventFilter(this);
   top->addWidget(charts);
   top->setStretchFactor(0, 0);
   top->setStretchFactor(1, 1);
@@ -176,14 +177,16 @@ CompareView::CompareView(QWidget* parent) : QWidget(parent) {
 
 CompareView::~CompareView() = default;
 
-void CompareView::resizeEvent(QResizeEvent* event) {
-  QWidget::resizeEvent(event);
+bool CompareView::eventFilter(QObject* watched, QEvent* event) {
   // As many legend entries on a line as the chart's width takes.
-  const int wrap = std::clamp(pressure_plot_->width() / 240, 1, 6);
-  if (pressure_plot_->legend->wrap() != wrap) {
-    pressure_plot_->legend->setWrap(wrap);
-    pressure_plot_->replot(QCustomPlot::rpQueuedReplot);
+  if (watched == pressure_plot_ && event->type() == QEvent::Resize) {
+    const int wrap = std::clamp(pressure_plot_->width() / 240, 1, 6);
+    if (pressure_plot_->legend->wrap() != wrap) {
+      pressure_plot_->legend->setWrap(wrap);
+      pressure_plot_->replot(QCustomPlot::rpQueuedReplot);
+    }
   }
+  return QWidget::eventFilter(watched, event);
 }
 
 void CompareView::setUnits(UnitSystem system) {

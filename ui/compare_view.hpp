@@ -67,7 +67,7 @@ class CompareView : public QWidget {
   QList<QCustomPlot*> plots() const;
 
  protected:
-  void resizeEvent(QResizeEvent* event) override;
+  bool eventFilter(QObject* watched, QEvent* event) override;
 
  signals:
   // A button asks for a design; the owner knows the present design and the recording.

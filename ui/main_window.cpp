@@ -15,6 +15,7 @@
 #include <QMenuBar>
 #include <QMessageBox>
 #include <QPushButton>
+#include <QRegularExpression>
 #include <QResizeEvent>
 #include <QScrollArea>
 #include <QScrollBar>
@@ -681,8 +682,11 @@ QString MainWindow::suggestedSessionPath() const {
     dir = QFileInfo(study_path_).absolutePath();
   if (dir.isEmpty()) dir = QStandardPaths::writableLocation(QStandardPaths::DocumentsLocation);
   if (dir.isEmpty()) dir = QDir::homePath();
-  const QString stem = !study_path_.isEmpty() ? QFileInfo(study_path_).completeBaseName()
-                                              : QString::fromStdString(study_.name).simplified().replace(' ', '-');
+  QString stem = !study_path_.isEmpty() ? QFileInfo(study_path_).completeBaseName() : QString::fromStdString(study_.name);
+  // A name any file system takes: letters, digits, dots, dashes.
+  stem.replace(QRegularExpression(QStringLiteral("[^A-Za-z0-9._-]+")), QStringLiteral("-"));
+  stem.remove(QRegularExpression(QStringLiteral("^[-.]+|[-.]+$")));
+  if (stem.isEmpty()) stem = QStringLiteral("study");
   QString candidate = dir + QLatin1Char('/') + stem + QStringLiteral("-session.toml");
   for (int n = 2; QFileInfo::exists(candidate) && n < 1000; ++n)
     candidate = dir + QLatin1Char('/') + stem + QStringLiteral("-session-%1.toml").arg(n);
@@ -1176,6 +1180,8 @@ void MainWindow::refreshAnalysis(bool force) {
   margins_->setReport(report);
   if (report.model.loop_active != loop_active_) {
     loop_active_ = report.model.loop_active;
+    // With the loop inactive the margins view says so and shows the modes: it may be narrow.
+    margins_->setMinimumWidth(loop_active_ ? 480 : 420);
     adjustPanels();
   }
   pressure_flow_->setCharacteristic(steady_characteristic(p, study_.settings, 41), p.setting, before);
