@@ -432,20 +432,23 @@ class SessionTest : public QObject {
       } catch (const std::exception& e) {
         QFAIL(qPrintable(QString("kill %1 (%2) left a broken %3: %4").arg(i).arg(said, target, e.what())));
       }
-      const bool saved = said.contains(QRegularExpression("(^|\\n)saved [0-9]"));  // not "autosaved"
-
-      if (saved) {
-        QVERIFY2(last_set(s, "compensator.setting", 0.0) == 170e5, qPrintable(said));  // the new session
+      // What the program had said before it died runs a little behind what it
+      // did: a save may have replaced the file just before the kill without
+      // telling. Either way nothing is lost: the new session is in the file,
+      // or the old file is intact and the session is in its autosave.
+      const bool said_saved = said.contains(QRegularExpression("(^|\\n)saved [0-9]"));  // not "autosaved"
+      const bool replaced = now != before;
+      if (said_saved) QVERIFY2(replaced, qPrintable(said));
+      if (replaced) {
+        QVERIFY2(last_set(s, "compensator.setting", 0.0) == 170e5, qPrintable(said));  // the new session, whole
         ++during_saves;
       } else if (said.contains("autosaved")) {
-        QVERIFY2(now == before, qPrintable(said));
         const std::vector<AutosaveInfo> orphans = store.orphans();
         QCOMPARE(orphans.size(), std::size_t(1));
         QCOMPARE(last_set(AutosaveStore::readSession(orphans[0].file), "compensator.setting", 0.0), 170e5);
         ++before_save;
       } else {
-        QVERIFY(now == before || last_set(s, "compensator.setting", 0.0) == 170e5);
-        ++before_autosave;
+        ++before_autosave;  // killed before it had anything to keep
       }
       if (!QDir(dir.path()).entryList({"session.toml.partial-*"}, QDir::Files).isEmpty()) ++mid_write;
     }
@@ -463,8 +466,7 @@ class SessionTest : public QObject {
       p.kill();
       p.waitForFinished(10000);
       said += p.readAllStandardOutput();
-      if (!QString::fromLocal8Bit(said).contains(QRegularExpression("(^|\\n)saved 1"))) {  // the save may have begun between our read and the kill
-        QCOMPARE(read_file(target.toStdString()), before);
+      if (read_file(target.toStdString()) == before) {  // the first save may have finished between our read and the kill
         QCOMPARE(store.orphans().size(), std::size_t(1));
         QCOMPARE(last_set(AutosaveStore::readSession(store.orphans()[0].file), "compensator.setting", 0.0), 170e5);
         ++before_save;
