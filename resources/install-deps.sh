@@ -1,9 +1,11 @@
 #!/bin/sh
-# Installs the Debian packages listed in resources/debian-packages.txt that
-# are missing. Needs root (or sudo); does nothing when all are present.
+# Installs the Debian packages listed in resources/debian-packages.txt (or in
+# the lists given as arguments) that are missing. Needs root (or sudo); does
+# nothing when all are present.
 set -eu
 here=$(cd "$(dirname "$0")" && pwd)
-packages=$(grep -v '^#' "$here/debian-packages.txt" | tr '\n' ' ')
+[ $# -eq 0 ] && set -- "$here/debian-packages.txt"
+packages=$(cat "$@" | grep -v '^#' | tr '\n' ' ')
 missing=""
 for p in $packages; do
   dpkg-query -W -f='${Status}' "$p" 2>/dev/null | grep -q "install ok installed" || missing="$missing $p"
