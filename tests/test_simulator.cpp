@@ -56,6 +56,7 @@ TEST(Simulator, PressureBuildUpFollowsCapacitanceLaw) {
   RunSettings settings = default_settings();
   settings.sample_interval = 0.1e-3;
   InitialCondition start;
+  start.x = zero_state(layout_of(p));  // a default State has no entries to set
   start.x[state::swash_angle] = p.max_swash_angle;
   start.x[state::spool_position] = -p.spool_travel;
   start.modes = StopModes{Stop::upper, Stop::lower};
