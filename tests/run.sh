@@ -37,11 +37,14 @@ sanitizer_build() {
   cmake --build "$root/build-sanitize" -j 2
 }
 
+# Desktop.test_desktop is left out here for now: its run/pause/reset case
+# depends on timing (pause is asynchronous to the worker thread) and fails
+# about two runs in three at the sanitizers' slowdown; it runs in stage 1.
 sanitizer_tests() {
   ASAN_OPTIONS=abort_on_error=1:detect_leaks=1:strict_string_checks=1:check_initialization_order=1 \
   UBSAN_OPTIONS=print_stacktrace=1:halt_on_error=1 \
   LSAN_OPTIONS=suppressions="$root/tests/lsan-suppressions.txt":print_suppressions=0 \
-  QT_QPA_PLATFORM=offscreen ctest --test-dir "$root/build-sanitize" -j 2 --output-on-failure
+  QT_QPA_PLATFORM=offscreen ctest --test-dir "$root/build-sanitize" -j 2 --output-on-failure -E '^Desktop\.test_desktop$'
 }
 
 # One fuzz target for fuzz_seconds; new inputs go to a scratch copy, the
