@@ -109,7 +109,7 @@ int run_command(const std::string& scenario_path, const std::string& out_dir, co
   try {
     ResultFolder results(out_dir, {"trace.csv", "summary.json"});
     StreamingFile trace_file(results.staged("trace.csv"), results.shown("trace.csv"));
-    const TraceRowFormatter rows(*units);
+    const TraceRowFormatter rows(*units, scenario.parameters);
     std::string pending = rows.header();
     RunOptions options;
     options.max_trace_samples = run_kept_trace_samples;

@@ -3,6 +3,7 @@
 #include <charconv>
 #include <cmath>
 #include <cstdio>
+#include <limits>
 #include <sstream>
 
 #include "swashtune/plausibility.hpp"
@@ -40,6 +41,34 @@ const std::vector<TraceColumn>& trace_columns() {
   return columns;
 }
 
+namespace {
+
+// Reads state i of the sample (NaN when the sample has fewer states).
+template <int i>
+double state_at(const Sample& s) {
+  return s.x.size() > i ? s.x[i] : std::numeric_limits<double>::quiet_NaN();
+}
+
+}  // namespace
+
+std::vector<TraceColumn> optional_state_columns(const ModelParameters& p) {
+  static constexpr double (*readers[])(const Sample&) = {state_at<6>, state_at<7>,  state_at<8>,
+                                                         state_at<9>, state_at<10>, state_at<11>};
+  const bool port = std::isfinite(p.control_orifice);
+  std::vector<TraceColumn> out;
+  const auto add = [&](std::string_view quantity, std::string_view si, std::string_view metric, std::string_view us) {
+    out.push_back({quantity, si, metric, us, readers[out.size()]});
+  };
+  if (port) add("port_pressure", "Pa", "bar", "psi");
+  if (p.cavitation) {
+    add("released_air_line", "-", "-", "-");
+    add("released_air_chamber", "-", "-", "-");
+    if (port) add("released_air_port", "-", "-", "-");
+  }
+  if (p.flow_ripple) add("shaft_angle", "rad", "deg", "deg");
+  return out;
+}
+
 std::string_view column_unit(const TraceColumn& c, UnitSystem units) {
   switch (units) {
     case UnitSystem::si:
@@ -73,17 +102,27 @@ std::string column_header(const TraceColumn& column, UnitSystem units) {
   return suffix.empty() ? std::string(column.quantity) : std::string(column.quantity) + "_" + suffix;
 }
 
-TraceRowFormatter::TraceRowFormatter(UnitSystem units) {
-  for (const TraceColumn& c : trace_columns()) factors_.push_back(convert(1.0, c.si_unit, column_unit(c, units)));
-  for (std::size_t i = 0; i < trace_columns().size(); ++i) {
+TraceRowFormatter::TraceRowFormatter(UnitSystem units) : columns_(trace_columns()) {
+  for (const TraceColumn& c : columns_) factors_.push_back(convert(1.0, c.si_unit, column_unit(c, units)));
+  for (std::size_t i = 0; i < columns_.size(); ++i) {
     if (i) header_ += ',';
-    header_ += column_header(trace_columns()[i], units);
+    header_ += column_header(columns_[i], units);
+  }
+  header_ += '\n';
+}
+
+TraceRowFormatter::TraceRowFormatter(UnitSystem units, const ModelParameters& parameters) : TraceRowFormatter(units) {
+  header_.pop_back();  // the newline
+  for (const TraceColumn& c : optional_state_columns(parameters)) {
+    columns_.push_back(c);
+    factors_.push_back(convert(1.0, c.si_unit, column_unit(c, units)));
+    header_ += ',' + column_header(c, units);
   }
   header_ += '\n';
 }
 
 void TraceRowFormatter::append(std::string& out, const Sample& s) const {
-  const auto& columns = trace_columns();
+  const auto& columns = columns_;
   char buffer[32];
   for (std::size_t i = 0; i < columns.size(); ++i) {
     if (i) out += ',';

@@ -32,6 +32,14 @@ const std::vector<TraceColumn>& trace_columns();
 
 // Unit expression of a column in a unit system, e.g. "bar".
 std::string_view column_unit(const TraceColumn& column, UnitSystem units);
+
+// The optional states a study's elements add, after the columns above and in
+// the order of the contributor guide's state layout: port_pressure (control
+// orifice present), released_air_line, released_air_chamber,
+// released_air_port (cavitation; the last with the port), shaft_angle (flow
+// ripple). They let outside checks compare every state of the model.
+std::vector<TraceColumn> optional_state_columns(const ModelParameters& parameters);
+
 // Header name of a column in a unit system, e.g. "discharge_pressure_bar".
 std::string column_header(const TraceColumn& column, UnitSystem units);
 
@@ -44,10 +52,13 @@ inline constexpr std::size_t run_kept_trace_samples = 1u << 16;
 class TraceRowFormatter {
  public:
   explicit TraceRowFormatter(UnitSystem units);
+  // With the optional state columns of these parameters' elements.
+  TraceRowFormatter(UnitSystem units, const ModelParameters& parameters);
   const std::string& header() const { return header_; }
   void append(std::string& out, const Sample& s) const;
 
  private:
+  std::vector<TraceColumn> columns_;
   std::vector<double> factors_;
   std::string header_;
 };
