@@ -98,7 +98,8 @@ py::array_t<double> to_array(std::vector<double>&& values) {
 // summary.json, computed as `swashtune-cli run` computes them.
 py::tuple run(const Scenario& scenario, const std::string& units_name, bool keep_trace) {
   const UnitSystem units = unit_system(units_name);
-  const auto& columns = trace_columns();
+  std::vector<TraceColumn> columns = trace_columns();
+  for (const TraceColumn& c : optional_state_columns(scenario.parameters)) columns.push_back(c);
   std::vector<double> factors;
   py::list names;
   for (const TraceColumn& c : columns) {
