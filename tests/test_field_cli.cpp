@@ -202,14 +202,15 @@ TEST_F(FieldCli, MemoryDoesNotGrowWithTheRecordingAndAnAllocationFailureHasItsEx
   EXPECT_NE(b.out.find("2000000 samples"), std::string::npos) << b.out;
   std::printf("field: peak resident %.1f MB for 600 000 rows, %.1f MB for 2 000 000 rows (%.1f MB file)\n", a.peak_mb,
               b.peak_mb, fs::file_size(large) / 1048576.0);
-  // Sanitizers add their own, roughly proportional, overhead.
-  const double allowance = kAddressSanitizer ? 3.0 : 1.0;
-  EXPECT_LT(b.peak_mb - a.peak_mb, 4.0 * allowance);
-  EXPECT_LT(b.peak_mb, 48.0 * allowance);
   if (kAddressSanitizer) {
-    std::printf("address-space cap not tested: AddressSanitizer reserves its shadow memory up front\n");
+    // AddressSanitizer keeps freed blocks in its quarantine (up to 256 MB)
+    // and reserves its shadow memory up front, so resident size says nothing
+    // about the program's own memory here; the Release stage measures it.
+    std::printf("memory not measured under AddressSanitizer: its quarantine keeps freed memory resident\n");
     return;
   }
+  EXPECT_LT(b.peak_mb - a.peak_mb, 4.0);
+  EXPECT_LT(b.peak_mb, 48.0);
   const Outcome capped = cli({"field", large}, 48);
   EXPECT_EQ(capped.exit_code, 0) << capped.err;
   const Outcome fit = cli({"fit", demo, "--trace", large, "--free", "line.volume"}, 48);

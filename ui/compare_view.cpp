@@ -484,6 +484,9 @@ void CompareView::refillTable() {
   for (int r = 0; r < static_cast<int>(rows.size()); ++r) {
     const Row& row_data = rows[r];
     if (row_data.heading) {
+      // With no design there is no cell to hold the item: QTableWidget would
+      // not take it, and it would leak.
+      if (n == 0) continue;
       if (n > 1) table_->setSpan(r, 0, 1, n);
       auto* item = new QTableWidgetItem();
       item->setBackground(palette().brush(QPalette::AlternateBase));
