@@ -7,6 +7,7 @@
 #include <cstdio>
 #include <random>
 
+#include "v1_pump.hpp"
 #include "swashtune/analysis.hpp"
 #include "swashtune/metrics.hpp"
 
@@ -15,7 +16,7 @@ using namespace swashtune;
 namespace {
 
 ModelParameters deadhead() {
-  ModelParameters p = default_parameters();
+  ModelParameters p = v1_pump();
   p.opening = 0.0;
   return p;
 }
@@ -28,7 +29,7 @@ ModelParameters deadhead() {
 // the compensator closed to the line, the load valve deep in the laminar
 // region of the orifice law (dp << dp_tr), where Q = Cd A sqrt(2/rho) dp / sqrt(dp_tr).
 TEST(Linearisation, FedVolumeWithLaminarDrainHasEigenvalueMinusBetaOverVR) {
-  ModelParameters p = default_parameters();
+  ModelParameters p = v1_pump();
   p.transition_pressure = 1e6;  // 10 bar laminar region
   p.displacement = 1e-7;        // 3 mL/s: a few hundred Pa across the valve
   p.leakage_coefficient = 0.0;
@@ -166,7 +167,7 @@ TEST(SteadyState, DeadheadPressureEqualsEndOfLongRun) {
 // compensator regulates or the pump sits at full stroke.
 TEST(SteadyState, NewtonAgreesWithIntegrationToRest) {
   for (double opening : {0.0, 0.05, 0.12, 0.5, 1.0}) {
-    ModelParameters p = default_parameters();
+    ModelParameters p = v1_pump();
     p.opening = opening;
     const OperatingPoint op = steady_state(p, default_settings());
     EXPECT_EQ(op.method, SteadyMethod::newton) << opening;
@@ -184,7 +185,7 @@ TEST(SteadyState, NewtonAgreesWithIntegrationToRest) {
 // within a few percent of its setting between the start of destroke and
 // deadhead; pressure falls and flow rises as the load opens.
 TEST(SteadyState, CharacteristicIsFlatCutOffThenOrifice) {
-  const ModelParameters p = default_parameters();
+  const ModelParameters p = v1_pump();
   const Characteristic ch = steady_characteristic(p, default_settings(), 41);
   ASSERT_TRUE(ch.cut_in_pressure);
   EXPECT_LE(*ch.cut_in_pressure, ch.deadhead_pressure);
@@ -223,7 +224,7 @@ TEST(StabilityMap, AxesParseWithUnitsAndRefuseBadInput) {
 TEST(StabilityMap, SmallerLineVolumeLowersGainMargin) {
   const Axis x = parse_axis("load.opening=0:0:1");
   const Axis y = parse_axis("line.volume=0.25 L:2 L:3");
-  const StabilityMap map = stability_map(default_parameters(), default_settings(), x, y);
+  const StabilityMap map = stability_map(v1_pump(), default_settings(), x, y);
   ASSERT_EQ(map.points.size(), 3u);
   for (const MapPoint& m : map.points) ASSERT_TRUE(m.solved && m.gain_margin_db);
   EXPECT_LT(*map.points[0].gain_margin_db, *map.points[1].gain_margin_db);
@@ -371,7 +372,7 @@ TEST(Nyquist, EncirclementsEqualUnstablePoleDifferenceAtRandomPoints) {
   const auto log_between = [&](double lo, double hi) { return lo * std::pow(hi / lo, unit()); };
   int checked = 0, unstable = 0, open_unstable = 0, encircling = 0;
   for (int i = 0; i < 400 && checked < 60; ++i) {
-    ModelParameters p = default_parameters();
+    ModelParameters p = v1_pump();
     p.line_volume = log_between(0.1e-3, 5e-3);
     p.spool_damping = log_between(2.0, 100.0);
     p.spool_mass = log_between(3e-3, 0.03);
@@ -428,6 +429,7 @@ TEST(Margins, SayWhenTheyDoNotApply) {
   p.opening = 0.0;
   const StabilityReport stick = analyse_stability(p, sticky.settings);
   EXPECT_TRUE(stick.dry_friction);
+  EXPECT_TRUE(stick.dry_friction_dominates);
   EXPECT_FALSE(stick.margins_apply);
   EXPECT_NE(stick.note.find("stick-slip"), std::string::npos) << stick.note;
   EXPECT_NE(stick.note.find("oscillation analysis of a run"), std::string::npos) << stick.note;

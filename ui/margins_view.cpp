@@ -513,7 +513,7 @@ void MarginsView::Impl::styleVerdict() {
   QColor colour = pal.color(QPalette::WindowText);
   // The verdict is the eigenvalues'; where a linear model cannot speak for
   // the pump (dry friction, no steady state) it is not drawn as good news.
-  const bool trustworthy = report && !report->dry_friction && report->operating_point.converged;
+  const bool trustworthy = report && !report->dry_friction_dominates && report->operating_point.converged;
   if (report && report->model.loop_active && (!report->stable || trustworthy))
     colour = for_background(QColor(report->stable ? kMarginColour : kUnstableColour), dark);
   QPalette p = verdictLabel->palette();

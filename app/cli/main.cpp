@@ -273,7 +273,7 @@ int stability_command(const std::string& scenario_path, const std::optional<doub
   // With dry friction no linear model describes what the pump does: a run of
   // the scenario's events, read by the oscillation analysis, is the guide.
   const bool run_guide =
-      report.dry_friction && !scenario.events.empty() && scenario.settings.duration <= max_guide_run_duration;
+      report.dry_friction_dominates && !scenario.events.empty() && scenario.settings.duration <= max_guide_run_duration;
   std::vector<EventMetrics> guide;
   if (run_guide) {
     RunOptions options;
@@ -295,7 +295,7 @@ int stability_command(const std::string& scenario_path, const std::optional<doub
         std::printf(" at %.4g Hz, %.3g %s peak to peak", o.frequency_hz, o.peak_to_peak * pu.per_pascal, pu.name);
       std::printf("%s%s\n", m.note.empty() ? "" : "; ", m.note.c_str());
     }
-  } else if (report.dry_friction) {
+  } else if (report.dry_friction_dominates) {
     std::printf(
         "Run the scenario (swashtune-cli run) and read each event's oscillation: with dry friction that is the "
         "better guide.\n");

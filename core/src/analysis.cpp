@@ -604,6 +604,22 @@ std::vector<std::string> dry_friction_sources(const ModelParameters& p) {
 
 bool has_dry_friction(const ModelParameters& p) { return !dry_friction_sources(p).empty(); }
 
+bool dry_friction_dominates(const ModelParameters& p) {
+  const Derived d(p);
+  const double sensing_force = p.setting * d.sensing_area;
+  const double bias_moment = p.bias_arm * p.fault_bias_strength * p.bias_force_at_full_stroke;
+  const bool spool = std::max(d.coulomb_friction, d.breakaway_friction) > 0.02 * sensing_force;
+  const bool cradle = d.swash_friction > 0.5 * bias_moment;
+  return spool || cradle;
+}
+
+ModelParameters linearisation_parameters(const ModelParameters& p) {
+  ModelParameters q = p;
+  q.swash_friction = 0.0;
+  q.fault_spool_friction = 0.0;
+  return q;
+}
+
 namespace {
 
 std::string format(const char* pattern, ...) __attribute__((format(printf, 1, 2)));
@@ -635,7 +651,7 @@ std::string margins_note(const ModelParameters& p, const StabilityReport& r) {
         "unstable pole%s of the opened loop): an inner loop hunts on its own, so these margins are not stability "
         "margins. The eigenvalues decide.",
         r.open_loop_unstable_poles, r.open_loop_unstable_poles == 1 ? "" : "s"));
-  if (r.dry_friction) {
+  if (r.dry_friction_dominates) {
     std::string which;
     for (const std::string& source : dry_friction_sources(p)) which += (which.empty() ? "" : ", ") + source;
     reasons.push_back(format(
@@ -730,8 +746,14 @@ StabilityReport analyse_stability(const ModelParameters& p, const RunSettings& s
                                   const std::optional<InitialCondition>& guess) {
   StabilityReport report;
   report.load_opening = p.opening;
-  report.operating_point = steady_state(p, settings, guess);
-  report.model = linearise(p, report.operating_point.condition);
+  report.dry_friction = has_dry_friction(p);
+  report.dry_friction_dominates = dry_friction_dominates(p);
+  // Friction that only widens the characteristic is left out of the linear
+  // model (linearised at rest it would act as a stiff damper); friction that
+  // dominates is kept, and the note says the margins do not apply.
+  const ModelParameters linear = report.dry_friction_dominates ? p : linearisation_parameters(p);
+  report.operating_point = steady_state(linear, settings, guess);
+  report.model = linearise(linear, report.operating_point.condition);
   report.modes = modes_of(report.model.closed_loop(), report.model.scale);
   for (const Mode& mode : report.modes)
     if (mode.oscillatory() && (!report.dominant || mode.damping_ratio < report.dominant->damping_ratio))
@@ -740,11 +762,20 @@ StabilityReport analyse_stability(const ModelParameters& p, const RunSettings& s
   report.open_loop_unstable_poles = unstable_count(modes_of(report.model.a, report.model.scale));
   report.stable = report.closed_loop_unstable_poles == 0;
   report.margins = loop_margins(report.model);
-  report.dry_friction = has_dry_friction(p);
-  report.margins_apply = report.model.loop_active && report.open_loop_unstable_poles == 0 && !report.dry_friction &&
+  report.margins_apply = report.model.loop_active && report.open_loop_unstable_poles == 0 &&
+                         !report.dry_friction_dominates &&
                          report.operating_point.converged;
   report.note = margins_note(p, report);
   report.explanation = explain_stability(report);
+  if (report.dry_friction && !report.dry_friction_dominates) {
+    std::string which;
+    for (const std::string& source : dry_friction_sources(p)) which += (which.empty() ? "" : ", ") + source;
+    report.explanation.push_back(format(
+        "Dry friction (%s) is small beside the bias spring and is left out of this linear model: it widens the "
+        "pressure-flow characteristic into a hysteresis band and stops very small motions; the modes and margins "
+        "are those of motions large enough to slide, about the middle of the band.",
+        which.c_str()));
+  }
   return report;
 }
 

@@ -123,6 +123,19 @@ std::optional<int> nyquist_encirclements(const LinearModel& m);
 std::vector<std::string> dry_friction_sources(const ModelParameters& p);
 bool has_dry_friction(const ModelParameters& p);
 
+// Whether dry friction decides the loop's small motions, so that no linear
+// model describes it: any friction on the compensator spool above 2 % of the
+// sensing force at the setting (a sticky spool), or a cradle friction moment
+// above half the bias spring's moment at full stroke. Smaller friction only
+// widens the characteristic into a hysteresis band; the loop is then
+// linearised without it (see linearisation_parameters).
+bool dry_friction_dominates(const ModelParameters& p);
+
+// The parameters the loop is linearised with: every dry friction set to zero,
+// so the operating point is the middle of the friction's hysteresis band and
+// the modes are those of motions large enough to slide.
+ModelParameters linearisation_parameters(const ModelParameters& p);
+
 struct StabilityReport {
   OperatingPoint operating_point;
   double load_opening = 0.0;
@@ -139,7 +152,11 @@ struct StabilityReport {
   // present the margins as safe.
   bool margins_apply = false;
   std::string note;
+  // dry_friction: the model has any; dry_friction_dominates: it decides the
+  // small motions and the margins do not apply (else it was left out of the
+  // linear model, and the explanation says so).
   bool dry_friction = false;
+  bool dry_friction_dominates = false;
   // What a plant engineer should read first: the verdict and the margins in
   // plain words, shared by every front end.
   std::vector<std::string> explanation;
