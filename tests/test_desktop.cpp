@@ -42,6 +42,8 @@ using namespace desktop_test;
 
 namespace {
 
+const QString v1_slam = QStringLiteral(SWASHTUNE_SOURCE_DIR "/tests/data/v1/valve-slam.toml");
+
 const Event& last_live(const MainWindow& w) {
   static const Event none;
   return w.liveEvents().empty() ? none : w.liveEvents().back();
@@ -426,7 +428,7 @@ class DesktopTest : public QObject {
   void fitButtonRunsCancelsShowsAndApplies() {
     MainWindow w(quiet());
     QVERIFY(show_active(w));
-    QVERIFY(w.openFile(demo));
+    QVERIFY(w.openFile(v1_slam));  // the plant the recording was made on
     QVERIFY(w.showSideTab("Troubleshooting"));
     TroubleshootingPanel* t = w.troubleshooting();
     QTest::mouseClick(t->fitButton(), Qt::LeftButton);  // nothing to fit to yet
@@ -466,7 +468,7 @@ class DesktopTest : public QObject {
   void fitSaysWhatTheRecordingCannotTell() {
     MainWindow w(quiet());
     QVERIFY(show_active(w));
-    QVERIFY(w.openFile(demo));
+    QVERIFY(w.openFile(v1_slam));  // the plant the recording was made on
     QVERIFY(w.showSideTab("Troubleshooting"));
     TroubleshootingPanel* t = w.troubleshooting();
     QVERIFY(t->loadRecording(QStringLiteral(SWASHTUNE_SOURCE_DIR "/scenarios/field/log-turner-slam.csv")));

@@ -4,6 +4,7 @@
 
 #include <cmath>
 
+#include "v1_pump.hpp"
 #include "swashtune/analysis.hpp"
 #include "swashtune/fluid.hpp"
 #include "swashtune/metrics.hpp"
@@ -13,7 +14,7 @@ using namespace swashtune;
 namespace {
 
 ModelParameters deadhead() {
-  ModelParameters p = default_parameters();
+  ModelParameters p = v1_pump();
   p.opening = 0.0;
   return p;
 }
@@ -43,7 +44,7 @@ TEST(Faults, WornPumpHoldsALargerAngleAtDeadhead) {
 // line closed, dp/dt = beta_e(p) Q / V (Merritt 1967) with beta_e from the
 // entrained-air law at the present pressure.
 TEST(Faults, EntrainedAirSoftensTheLineByTheAirLaw) {
-  ModelParameters p = default_parameters();
+  ModelParameters p = v1_pump();
   p.fault_entrained_air = 0.02;
   p.opening = 0.0;
   p.leakage_coefficient = 0.0;
@@ -82,7 +83,7 @@ TEST(Faults, SpringFatigueLowersTheDeadheadPressure) {
 // Raised case pressure: with the pump at full stroke the control chamber
 // drains to the case, so it sits at the case pressure.
 TEST(Faults, CasePressureHoldsTheControlChamberUp) {
-  ModelParameters p = default_parameters();
+  ModelParameters p = v1_pump();
   p.fault_case_pressure = 5e5;
   const State x = steady(p);
   EXPECT_NEAR(x[state::control_pressure], 5e5, 1e3);
@@ -118,7 +119,7 @@ TEST(Faults, UndersizedLineLowersTheGainMargin) {
 // level, peaks at the breakaway level near zero speed, and a valve slam with
 // it integrates without stalling.
 TEST(Faults, StickySpoolFrictionIsSmoothAndIntegrable) {
-  ModelParameters p = default_parameters();
+  ModelParameters p = v1_pump();
   p.fault_spool_friction = 10.0;
   const Derived d(p);
   EXPECT_NEAR(spool_friction(d, 0.5), -10.0, 1e-6);

@@ -6,6 +6,7 @@
 #include <cmath>
 #include <random>
 
+#include "v1_pump.hpp"
 #include "swashtune/fit.hpp"
 #include "swashtune/metrics.hpp"
 #include "swashtune/simulator.hpp"
@@ -14,8 +15,11 @@ using namespace swashtune;
 
 namespace {
 
+// On the v1 pump: its open control passage lets the spool's damping show in
+// the slam's pressure, so both parameters can be recovered.
 Scenario slam(double duration) {
   Scenario s;
+  s.parameters = v1_pump();
   s.settings.duration = duration;
   s.settings.sample_interval = 0.25e-3;
   s.events = {Event{0.02, "load.opening", 0.0, 0.005, 0}};

@@ -7,6 +7,7 @@
 #include <cmath>
 #include <random>
 
+#include "v1_pump.hpp"
 #include "swashtune/event_window.hpp"
 #include "swashtune/metrics.hpp"
 
@@ -133,7 +134,7 @@ TEST(EventMetrics, RiseAndFallOfTheValveSlam) {
   EXPECT_GT(*m[0].overshoot_percent, 5.0);
   EXPECT_NEAR(m[0].band, 0.02 * m[0].change, 1e-9 * m[0].change);  // the step's own 2 %
   EXPECT_GT(*m[0].settling_time, 0.005);
-  EXPECT_LT(*m[0].settling_time, 0.06);
+  EXPECT_LT(*m[0].settling_time, 0.15);
   EXPECT_LT(*m[0].swash_travel_time, *m[0].swash_response_time);
   EXPECT_FALSE(m[1].overshoot_percent);
   ASSERT_TRUE(m[1].undershoot_percent && m[1].settling_time);
@@ -172,7 +173,10 @@ TEST(EventMetrics, HuntingHasNoSettlingTime) {
 // 10 h run keeps only a thinned trace (as the command line does: every
 // 32nd sample or sparser, none of them inside the transient).
 TEST(EventMetrics, SameEventSameFiguresInAOneSecondAndATenHourRun) {
+  // The v1 pump is at rest 0.9 s after the event; today's default pump still
+  // reabsorbs released air (2 s time constant) and creeps in its friction band.
   Scenario s;
+  s.parameters = v1_pump();
   s.settings.sample_interval = 0.02;
   s.settings.max_step = 1.0;  // long steps once settled, so ten hours take seconds
   s.events = {Event{0.1, "load.opening", 0.0, 0.005, 0}};

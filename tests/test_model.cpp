@@ -3,6 +3,7 @@
 
 #include <cmath>
 
+#include "v1_pump.hpp"
 #include "swashtune/fluid.hpp"
 #include "swashtune/model.hpp"
 #include "swashtune/parameters.hpp"
@@ -68,7 +69,7 @@ TEST(BulkModulus, AgreesWithSeriesComplianceFormAtPressure) {
 
 // With no air the line is a pure capacitance: dp/dt = beta Q / V (Merritt 1967).
 TEST(Model, LineRatesFollowHydraulicCapacitance) {
-  ModelParameters p = default_parameters();
+  ModelParameters p = v1_pump();
   p.leakage_coefficient = 0.0;
   p.opening = 0.0;
   State x = zero_state(layout_of(p));
@@ -83,7 +84,7 @@ TEST(Model, LineRatesFollowHydraulicCapacitance) {
 
 // Forward-mode automatic differentiation agrees with central differences.
 TEST(Model, JacobianMatchesFiniteDifferences) {
-  ModelParameters p = default_parameters();
+  ModelParameters p = v1_pump();
   p.air_fraction = 0.005;
   State x(state::core_size);
   x << 200e5, 25e5, 0.05, 1.5, 2e-5, 0.01;
@@ -106,7 +107,7 @@ TEST(Model, JacobianMatchesFiniteDifferences) {
 // F = 2 Cd Cv w x dp cos(69 deg) (ch. 5; from memory), 13.7 N for a 10 mm
 // spool with a full-circumference port open 0.1 mm at 100 bar, Cd 0.61.
 TEST(Model, FlowForceMatchesWorkedValue) {
-  ModelParameters p = default_parameters();
+  ModelParameters p = v1_pump();
   p.spool_discharge_coefficient = 0.61;
   p.port_width = pi * 0.010;
   p.underlap = 0.0;

@@ -4,6 +4,7 @@
 
 #include <cmath>
 
+#include "v1_pump.hpp"
 #include "swashtune/live_session.hpp"
 #include "swashtune/metrics.hpp"
 #include "swashtune/schedule.hpp"
@@ -13,8 +14,10 @@ using namespace swashtune;
 
 namespace {
 
+// The valve slam on the v1 pump, whose behaviour model.md describes.
 Scenario valve_slam() {
   Scenario s;
+  s.parameters = v1_pump();
   s.settings.duration = 1.0;
   s.events = {Event{0.1, "load.opening", 0.0, 0.005, 0}, Event{0.6, "load.opening", 1.0, 0.005, 0}};
   return s;
@@ -25,7 +28,7 @@ double pressure_at(const RunResult& r, double t) { return trace_value_at(r.trace
 }  // namespace
 
 TEST(Schedule, RampsStepsAndSupersedes) {
-  Schedule schedule(default_parameters());
+  Schedule schedule(v1_pump());
   schedule.add(Event{0.1, "load.opening", 0.0, 0.1, 0});   // 1 -> 0 over 0.1 s
   schedule.add(Event{0.15, "load.opening", 0.8, 0.0, 0});  // step while the ramp is half done
   EXPECT_DOUBLE_EQ(schedule.at(0.05).opening, 1.0);
@@ -46,7 +49,7 @@ TEST(Schedule, RampsStepsAndSupersedes) {
 // Systems, 1967). check-values.md: 60 L/min into a closed 1 L at 1.4 GPa
 // gives 14 bar/ms.
 TEST(Simulator, PressureBuildUpFollowsCapacitanceLaw) {
-  ModelParameters p = default_parameters();
+  ModelParameters p = v1_pump();
   p.bulk_modulus = 1.4e9;
   p.line_volume = 1e-3;
   p.displacement = 60e-3 / p.speed;  // 60 L/min at full stroke
@@ -73,7 +76,8 @@ TEST(Simulator, PressureBuildUpFollowsCapacitanceLaw) {
 
 // Fact of the trade (common practice): at no flow a pressure-compensated
 // pump holds its setting and strokes back to near-zero displacement;
-// internal leakage makes it hold a small angle.
+// internal leakage and the control circuit's bleed make it hold a small
+// angle (a few percent of full stroke; from memory).
 TEST(Simulator, DeadheadHoldsSettingAtNearZeroStroke) {
   Scenario s;
   s.parameters.opening = 0.0;
@@ -85,7 +89,7 @@ TEST(Simulator, DeadheadHoldsSettingAtNearZeroStroke) {
   EXPECT_NEAR(p / s.parameters.setting, 1.0, 0.02);
   const double angle = last.x[state::swash_angle];
   EXPECT_GT(angle, 0.0);                                  // leakage keeps it off the stop
-  EXPECT_LT(angle, 0.05 * s.parameters.max_swash_angle);  // but near zero stroke
+  EXPECT_LT(angle, 0.10 * s.parameters.max_swash_angle);  // but near zero stroke
   // Everything it makes goes to leakage and the control circuit.
   EXPECT_NEAR(last.pump_flow, last.control_flow, 1e-7);
   EXPECT_NEAR(last.load_flow, 0.0, 1e-12);

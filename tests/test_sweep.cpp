@@ -64,8 +64,10 @@ double json_value(const std::string& json, const std::string& key) {
   return std::strtod(json.c_str() + at + key.size() + 3, nullptr);
 }
 
-// The valve-slam demo cut short: full flow, the valve slammed shut at 0.1 s,
-// 0.2 s in all, so that a sweep of a few points takes a fraction of a second.
+// The valve slam cut short, on the v1 pump (tests/data/v1/pump.toml), whose
+// short stiff-hose, low-damping design is unstable at deadhead: full flow,
+// the valve slammed shut at 0.1 s, 0.2 s in all, so that a sweep of a few
+// points takes a fraction of a second.
 const char* const short_slam = R"(
 [scenario]
 name = "sweep test: supply valve slammed shut"
@@ -75,13 +77,41 @@ sample_interval = "0.5 ms"
 [solver]
 rtol = 1e-6
 
+[fluid]
+cavitation = false
+temperature = "40 degC"
+
 [pump]
 displacement = "45 cm^3/rev"
 speed = "1800 rpm"
 max_swash_angle = "17 deg"
+swash_inertia = "0.003 kg*m^2"
+swash_damping = "1 N*m*s/rad"
+pressure_moment = "0 N*m/Pa"
+swash_friction = "0 N*m"
+
+[bias_spring]
+rate = "20 N/mm"
+force_at_full_stroke = "400 N"
+
+[control_piston]
+diameter = "18 mm"
+dead_volume = "20 cm^3"
+
+[relief]
+setting = "none"
 
 [compensator]
 setting = "210 bar"
+spool_diameter = "6 mm"
+spring_rate = "50 N/mm"
+spool_mass = "10 g"
+spool_damping = "20 N*s/m"
+port_width = "6 mm"
+underlap = "0.01 mm"
+bleed_orifice = "0.4 mm"
+control_orifice = "none"
+port_volume = "5 cm^3"
 
 [line]
 volume = "1 L"

@@ -10,6 +10,7 @@ root=$(cd "$(dirname "$0")/../../.." && pwd)
 for f in "$root"/scenarios/valve-slam.toml "$root"/scenarios/setting-under-flow.toml \
          "$root"/scenarios/aerated-oil.toml "$root"/scenarios/sticky-spool.toml \
          "$root"/scenarios/hunting-oversized-damping-orifice.toml "$root"/scenarios/hunting-remedy.toml \
+         "$root"/scenarios/hunting-sticky-spool.toml "$root"/scenarios/hunting-aerated-oil.toml \
          "$root"/tests/data/cross_check/*.toml; do
   [ -f "$f" ] || continue
   name=$(basename "$f" .toml)
