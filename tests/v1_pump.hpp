@@ -10,11 +10,3 @@ inline swashtune::ModelParameters v1_pump() {
   return p;
 }
 
-// The v1 plant under a study's own changes: every parameter in which the v1
-// pump differs from today's default pump is put back to its v1 value.
-inline swashtune::ModelParameters with_v1_plant(swashtune::ModelParameters p) {
-  const swashtune::ModelParameters v1 = v1_pump(), now = swashtune::default_parameters();
-  for (const swashtune::ParameterSpec& s : swashtune::parameter_registry())
-    if (s.get(v1) != s.get(now)) s.set(p, s.get(v1));
-  return p;
-}
