@@ -632,6 +632,13 @@ std::string format(const char* pattern, ...) {
   return buffer;
 }
 
+// "faults.spool_friction = 15 N, pump.swash_friction = 5 N*m", for the notes.
+std::string listed_dry_friction(const ModelParameters& p) {
+  std::string which;
+  for (const std::string& source : dry_friction_sources(p)) which += (which.empty() ? "" : ", ") + source;
+  return which;
+}
+
 // Why the margins are not stability margins, in plain words; empty when they are.
 std::string margins_note(const ModelParameters& p, const StabilityReport& r) {
   std::vector<std::string> reasons;
@@ -652,8 +659,7 @@ std::string margins_note(const ModelParameters& p, const StabilityReport& r) {
         "margins. The eigenvalues decide.",
         r.open_loop_unstable_poles, r.open_loop_unstable_poles == 1 ? "" : "s"));
   if (r.dry_friction_dominates) {
-    std::string which;
-    for (const std::string& source : dry_friction_sources(p)) which += (which.empty() ? "" : ", ") + source;
+    const std::string which = listed_dry_friction(p);
     reasons.push_back(format(
         "The loop has dry friction (%s): a linear model cannot describe stick-slip. Linearised at rest the friction "
         "acts as a stiff damper, so the modes and margins describe only tiny motions; judge the loop by the "
@@ -768,8 +774,7 @@ StabilityReport analyse_stability(const ModelParameters& p, const RunSettings& s
   report.note = margins_note(p, report);
   report.explanation = explain_stability(report);
   if (report.dry_friction && !report.dry_friction_dominates) {
-    std::string which;
-    for (const std::string& source : dry_friction_sources(p)) which += (which.empty() ? "" : ", ") + source;
+    const std::string which = listed_dry_friction(p);
     report.explanation.push_back(format(
         "Dry friction (%s) is small beside the bias spring and is left out of this linear model: it widens the "
         "pressure-flow characteristic into a hysteresis band and stops very small motions; the modes and margins "
