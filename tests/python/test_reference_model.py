@@ -258,7 +258,7 @@ import astm_d2270 as astm  # noqa: E402
 
 
 class ViscosityStandardsTest(unittest.TestCase):
-    """ASTM D2270 and D341 worked examples (shared/design/check-values.md)."""
+    """ASTM D2270 and D341 example calculations (shared/design/check-values.md)."""
 
     def test_d2270_table_against_the_standards_examples(self):
         # Procedure A example: Y = 8.86 -> L = 119.94, H = 69.48, VI = 92.
@@ -280,7 +280,7 @@ class ViscosityStandardsTest(unittest.TestCase):
         # VG 46 at VI 100 is about 6.8 mm^2/s at 100 degC (from memory).
         self.assertAlmostEqual(astm.nu100_from_index(46.0, 100.0), 6.8, delta=0.1)
 
-    def test_d341_worked_example(self):
+    def test_d341_example_calculation(self):
         # 32 cSt at 40 C, 5.4 cSt at 100 C, T = t + 273: A = 9.5259,
         # B = 3.7449, nu(80 C) = 8.5 cSt.
         a, b = astm.walther_coefficients(40.0, 32.0, 100.0, 5.4, 273.0)
