@@ -11,8 +11,66 @@
 #include <algorithm>
 #include <boost/numeric/odeint/stepper/rosenbrock4.hpp>
 #include <cmath>
+#include <utility>
 
 namespace swashtune::detail {
+
+// LU factorisation with partial pivoting of a K x K matrix, K fixed and
+// small (the layouts' 6 to 11 states): plain loops the compiler unrolls.
+// Eigen's PartialPivLU and triangular solvers are built for large blocks
+// and cost about three times as much at this size (callgrind).
+template <int K>
+class SmallLU {
+ public:
+  using Matrix = Eigen::Matrix<double, K, K, Eigen::RowMajor>;
+  using Vector = Eigen::Matrix<double, K, 1>;
+
+  template <class M>
+  explicit SmallLU(const M& m) : lu_(m) {
+    for (int k = 0; k < K; ++k) {
+      int pivot = k;
+      double largest = std::abs(lu_(k, k));
+      for (int i = k + 1; i < K; ++i)
+        if (std::abs(lu_(i, k)) > largest) {
+          largest = std::abs(lu_(i, k));
+          pivot = i;
+        }
+      pivot_[k] = pivot;
+      if (pivot != k) lu_.row(k).swap(lu_.row(pivot));
+      const double inverse = 1.0 / lu_(k, k);
+      for (int i = k + 1; i < K; ++i) {
+        const double factor = lu_(i, k) * inverse;
+        lu_(i, k) = factor;
+        for (int j = k + 1; j < K; ++j) lu_(i, j) -= factor * lu_(k, j);
+      }
+    }
+  }
+
+  Vector solve(Vector b) const {
+    for (int k = 0; k < K; ++k)
+      if (pivot_[k] != k) std::swap(b[k], b[pivot_[k]]);
+    for (int i = 1; i < K; ++i)
+      for (int j = 0; j < i; ++j) b[i] -= lu_(i, j) * b[j];
+    for (int i = K - 1; i >= 0; --i) {
+      for (int j = i + 1; j < K; ++j) b[i] -= lu_(i, j) * b[j];
+      b[i] /= lu_(i, i);
+    }
+    return b;
+  }
+
+ private:
+  Matrix lu_;
+  int pivot_[K];
+};
+
+template <int K, class M>
+struct FactorisationOf {
+  using type = SmallLU<K>;
+};
+template <class M>
+struct FactorisationOf<Eigen::Dynamic, M> {
+  using type = Eigen::PartialPivLU<M>;
+};
 
 // System: Vec rhs(double t, const Vec& x); void jacobian(double t, const Vec& x, Mat& J, Vec& dfdt).
 // N may be Eigen::Dynamic with a fixed maximum MaxN: the vectors then live
@@ -51,7 +109,6 @@ class Rosenbrock4 {
       t += dt;
       dt = dt_new;
       last_rejected_ = false;
-      prepare_dense_output();
       return true;
     }
     dt = dt_new;
@@ -67,30 +124,68 @@ class Rosenbrock4 {
   }
 
  private:
+  // One step. The rates and the Jacobian at (t, x) are kept: a rejected
+  // step retries from the same point with a smaller dt, so only the matrix
+  // I/(gamma dt) - J is formed and factorised again.
   template <class System>
   void do_step(System& system, const Vec& x, double t, Vec& x_out, double dt, Vec& x_err) {
-    const auto& c = coef_;
-    Mat jacobian;
-    Vec dfdt;
-    const Vec dxdt = system.rhs(t, x);
-    system.jacobian(t, x, jacobian, dfdt);
-    const Mat m = Mat::Identity(x.size(), x.size()) / (c.gamma * dt) - jacobian;
-    const Eigen::PartialPivLU<Mat> lu(m);
+    if (!(have_point_ && t == point_t_ && x.size() == point_x_.size() && x == point_x_)) {
+      point_dxdt_ = system.rhs(t, x);
+      system.jacobian(t, x, point_jacobian_, point_dfdt_);
+      point_t_ = t;
+      point_x_ = x;
+      have_point_ = true;
+    }
+    switch (x.size()) {
+      case 6:
+        return stages<6>(system, x, t, x_out, dt, x_err);
+      case 7:
+        return stages<7>(system, x, t, x_out, dt, x_err);
+      case 8:
+        return stages<8>(system, x, t, x_out, dt, x_err);
+      case 9:
+        return stages<9>(system, x, t, x_out, dt, x_err);
+      case 10:
+        return stages<10>(system, x, t, x_out, dt, x_err);
+      case 11:
+        return stages<11>(system, x, t, x_out, dt, x_err);
+      default:
+        return stages<N>(system, x, t, x_out, dt, x_err);
+    }
+  }
 
-    g1_ = lu.solve(dxdt + dt * c.d1 * dfdt);
-    Vec stage = x + c.a21 * g1_;
-    g2_ = lu.solve(system.rhs(t + c.c2 * dt, stage) + dt * c.d2 * dfdt + c.c21 * g1_ / dt);
-    stage = x + c.a31 * g1_ + c.a32 * g2_;
-    g3_ = lu.solve(system.rhs(t + c.c3 * dt, stage) + dt * c.d3 * dfdt + (c.c31 * g1_ + c.c32 * g2_) / dt);
-    stage = x + c.a41 * g1_ + c.a42 * g2_ + c.a43 * g3_;
-    g4_ = lu.solve(system.rhs(t + c.c4 * dt, stage) + dt * gamma_sum_4 * dfdt +
-                   (c.c41 * g1_ + c.c42 * g2_ + c.c43 * g3_) / dt);
-    stage = x + c.a51 * g1_ + c.a52 * g2_ + c.a53 * g3_ + c.a54 * g4_;
-    g5_ = lu.solve(system.rhs(t + dt, stage) + (c.c51 * g1_ + c.c52 * g2_ + c.c53 * g3_ + c.c54 * g4_) / dt);
-    stage += g5_;
-    x_err = lu.solve(system.rhs(t + dt, stage) +
-                     (c.c61 * g1_ + c.c62 * g2_ + c.c63 * g3_ + c.c64 * g4_ + c.c65 * g5_) / dt);
-    x_out = stage + x_err;
+  // The stages with vectors and matrices of K entries (K fixed for the
+  // common layouts: the factorisation and the solves are then unrolled,
+  // which halves the cost of a step against Eigen's dynamic-size kernels).
+  template <int K, class System>
+  void stages(System& system, const Vec& x_in, double t, Vec& x_out, double dt, Vec& x_err) {
+    using V = Eigen::Matrix<double, K, 1, 0, (K == Eigen::Dynamic ? MaxN : K), 1>;
+    using M = Eigen::Matrix<double, K, K, 0, (K == Eigen::Dynamic ? MaxN : K), (K == Eigen::Dynamic ? MaxN : K)>;
+    const auto& c = coef_;
+    const int n = static_cast<int>(x_in.size());
+    const V x = x_in;
+    const V dfdt = point_dfdt_;
+    const M m = M::Identity(n, n) / (c.gamma * dt) - M(point_jacobian_);
+    const typename FactorisationOf<K, M>::type lu(m);
+    const auto rhs = [&](double ts, const V& xs) -> V { return V(system.rhs(ts, Vec(xs))); };
+
+    const V g1 = lu.solve(V(point_dxdt_) + dt * c.d1 * dfdt);
+    V stage = x + c.a21 * g1;
+    const V g2 = lu.solve(rhs(t + c.c2 * dt, stage) + dt * c.d2 * dfdt + c.c21 * g1 / dt);
+    stage = x + c.a31 * g1 + c.a32 * g2;
+    const V g3 = lu.solve(rhs(t + c.c3 * dt, stage) + dt * c.d3 * dfdt + (c.c31 * g1 + c.c32 * g2) / dt);
+    stage = x + c.a41 * g1 + c.a42 * g2 + c.a43 * g3;
+    const V g4 =
+        lu.solve(rhs(t + c.c4 * dt, stage) + dt * gamma_sum_4 * dfdt + (c.c41 * g1 + c.c42 * g2 + c.c43 * g3) / dt);
+    stage = x + c.a51 * g1 + c.a52 * g2 + c.a53 * g3 + c.a54 * g4;
+    const V g5 = lu.solve(rhs(t + dt, stage) + (c.c51 * g1 + c.c52 * g2 + c.c53 * g3 + c.c54 * g4) / dt);
+    stage += g5;
+    const V err = lu.solve(rhs(t + dt, stage) + (c.c61 * g1 + c.c62 * g2 + c.c63 * g3 + c.c64 * g4 + c.c65 * g5) / dt);
+    x_err = err;
+    x_out = stage + err;
+    // Dense output of this step (used only once the step is accepted).
+    cont3_ = c.d21 * g1 + c.d22 * g2 + c.d23 * g3 + c.d24 * g4 + c.d25 * g5;
+    cont4_ = c.d31 * g1 + c.d32 * g2 + c.d33 * g3 + c.d34 * g4 + c.d35 * g5;
   }
 
   double error_norm(const Vec& x, const Vec& x_old, const Vec& x_err) const {
@@ -101,12 +196,6 @@ class Rosenbrock4 {
       err += x_err[i] * x_err[i] / (sk * sk);
     }
     return std::sqrt(err / n);
-  }
-
-  void prepare_dense_output() {
-    const auto& c = coef_;
-    cont3_ = c.d21 * g1_ + c.d22 * g2_ + c.d23 * g3_ + c.d24 * g4_ + c.d25 * g5_;
-    cont4_ = c.d31 * g1_ + c.d32 * g2_ + c.d33 * g3_ + c.d34 * g4_ + c.d35 * g5_;
   }
 
   const boost::numeric::odeint::default_rosenbrock_coefficients<double> coef_;
@@ -120,7 +209,12 @@ class Rosenbrock4 {
   bool first_step_ = true;
   bool last_rejected_ = false;
   double err_old_ = 0.0, dt_old_ = 0.0;
-  Vec g1_, g2_, g3_, g4_, g5_, cont3_, cont4_;
+  Vec cont3_, cont4_;
+  // The point of the last attempted step and what was evaluated there.
+  bool have_point_ = false;
+  double point_t_ = 0.0;
+  Vec point_x_, point_dxdt_, point_dfdt_;
+  Mat point_jacobian_;
 };
 
 }  // namespace swashtune::detail
