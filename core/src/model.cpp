@@ -37,6 +37,7 @@ Derived::Derived(const ModelParameters& p) {
   const OilState oil = oil_of(p);
   layout = layout_of(p);
   density = p.temperature == reference_temperature_c ? p.density : oil.density;
+  root_two_over_density = std::sqrt(2.0 / density);
   viscosity_ratio = viscosity_ratio_of(p, oil);
   control_area = pi / 4.0 * p.control_piston_diameter * p.control_piston_diameter;
   sensing_area = pi / 4.0 * p.spool_diameter * p.spool_diameter;

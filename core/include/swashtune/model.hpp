@@ -40,11 +40,17 @@ struct StopModes {
 //   Q = Cd A sqrt(2/rho) dp / (dp^2 + dp_tr^2)^(1/4)
 // For |dp| >> dp_tr this is the classic Q = Cd A sqrt(2|dp|/rho) sign(dp)
 // (Merritt, Hydraulic Control Systems, 1967, ch. 3).
+// `coefficient` is Cd sqrt(2/rho): the model works it out once per oil.
 template <class T>
-T orifice_flow(double cd, const T& area, const T& dp, double density, double transition) {
+T orifice_flow_with(double coefficient, const T& area, const T& dp, double transition) {
   using std::sqrt;
   const T root = sqrt(sqrt(T(dp * dp + transition * transition)));
-  return T(cd * std::sqrt(2.0 / density) * area * dp / root);
+  return T(coefficient * area * dp / root);
+}
+
+template <class T>
+T orifice_flow(double cd, const T& area, const T& dp, double density, double transition) {
+  return orifice_flow_with(cd * std::sqrt(2.0 / density), area, dp, transition);
 }
 
 // Friction that opposes a motion at speed v: Coulomb level plus a Stribeck
@@ -63,10 +69,11 @@ inline constexpr double reference_viscosity = 46.0;  // mm^2/s
 // the elements present.
 struct Derived {
   Layout layout;
-  double density;          // at the oil's temperature
-  double viscosity_ratio;  // dynamic viscosity over that of the reference oil
-  double control_area;     // A_c
-  double sensing_area;     // A_s
+  double density;                // at the oil's temperature
+  double root_two_over_density;  // sqrt(2 / rho), of the orifice law
+  double viscosity_ratio;        // dynamic viscosity over that of the reference oil
+  double control_area;           // A_c
+  double sensing_area;           // A_s
   double bleed_area;
   double full_flow;  // D_max N / 60, m^3/s
   double tan_max;
@@ -128,7 +135,6 @@ T geometric_flow(const Derived& d, const T& a, const StateOf<T>& x) {
 // (interfaces.md, "Stability v2"); everything else still sees x's angle.
 template <class T>
 FlowsOf<T> flows(const ModelParameters& p, const Derived& d, const StateOf<T>& x, const T* pump_flow_angle = nullptr) {
-  const double rho = d.density;
   const double dp_tr = p.transition_pressure;
   const T& x_s = x[state::spool_position];
 
@@ -146,15 +152,16 @@ FlowsOf<T> flows(const ModelParameters& p, const Derived& d, const StateOf<T>& x
   const T open_out = p.underlap - x_s;
   f.metering_area_in = open_in > 0.0 ? T(p.port_width * open_in) : T(0.0);
   f.metering_area_out = open_out > 0.0 ? T(p.port_width * open_out) : T(0.0);
-  const double cd = p.spool_discharge_coefficient;
-  f.to_control = orifice_flow(cd, f.metering_area_in, T(p_d - p_k), rho, dp_tr);
-  f.control_to_case = orifice_flow(cd, f.metering_area_out, T(p_k - d.case_pressure), rho, dp_tr);
-  f.through_orifice = d.control_orifice.present ? orifice_flow(d.control_orifice.discharge_coefficient,
-                                                               T(d.control_orifice.area), T(p_k - p_c), rho, dp_tr)
-                                                : T(f.to_control - f.control_to_case);
-  f.bleed = orifice_flow(cd, T(d.bleed_area), T(p_c - d.case_pressure), rho, dp_tr);
-  f.load =
-      orifice_flow(p.valve_discharge_coefficient, T(p.opening * p.valve_area), T(p_d - p.tank_pressure), rho, dp_tr);
+  const double k_spool = p.spool_discharge_coefficient * d.root_two_over_density;
+  f.to_control = orifice_flow_with(k_spool, f.metering_area_in, T(p_d - p_k), dp_tr);
+  f.control_to_case = orifice_flow_with(k_spool, f.metering_area_out, T(p_k - d.case_pressure), dp_tr);
+  f.through_orifice = d.control_orifice.present
+                          ? orifice_flow_with(d.control_orifice.discharge_coefficient * d.root_two_over_density,
+                                              T(d.control_orifice.area), T(p_k - p_c), dp_tr)
+                          : T(f.to_control - f.control_to_case);
+  f.bleed = orifice_flow_with(k_spool, T(d.bleed_area), T(p_c - d.case_pressure), dp_tr);
+  f.load = orifice_flow_with(p.valve_discharge_coefficient * d.root_two_over_density, T(p.opening * p.valve_area),
+                             T(p_d - p.tank_pressure), dp_tr);
   f.relief = d.relief.flow(p_d, p.tank_pressure);
   return f;
 }
@@ -220,11 +227,12 @@ T swash_friction(const Derived& d, const T& w) {
 
 // The pressure rate of a volume V that takes the net flow q_net,
 // beta_e / V * q_net, with the entrained air alone (v1) or with air
-// released from the oil (a state of the cavitation element).
+// released from the oil (a state of the cavitation element; `air_at` is
+// then the air's state at the volume's pressure).
 template <class T>
-T pressure_rate(const ModelParameters& p, const Derived& d, const T& pressure, const T* released_air, const T& volume,
-                const T& q_net) {
-  const T beta = released_air ? bulk_modulus_with_air(pressure, p.bulk_modulus, T(d.air_fraction + *released_air),
+T pressure_rate(const ModelParameters& p, const Derived& d, const T& pressure, const T* released_air,
+                const AirAtPressure<T>* air_at, const T& volume, const T& q_net) {
+  const T beta = released_air ? bulk_modulus_with_air(*air_at, p.bulk_modulus, T(d.air_fraction + *released_air),
                                                       p.polytropic_index)
                               : effective_bulk_modulus(pressure, p.bulk_modulus, d.air_fraction, p.polytropic_index);
   return beta / volume * q_net;
@@ -249,30 +257,34 @@ StateOf<T> derivatives(const ModelParameters& p, const Derived& d, const StopMod
   const T* air_line = nullptr;
   const T* air_chamber = nullptr;
   const T* air_port = nullptr;
+  AirAtPressure<T> at_line{}, at_chamber{}, at_port{};
   T release_line(0.0), release_chamber(0.0), release_port(0.0);
   if (L.line_air >= 0) {
     const CavitationElement& c = d.cavitation;
     air_line = &x[L.line_air];
     air_chamber = &x[L.chamber_air];
+    at_line = air_at_pressure(f.line_pressure, p.polytropic_index);
+    at_chamber = air_at_pressure(f.chamber_pressure, p.polytropic_index);
     dx[L.line_air] = c.air_rate(f.line_pressure, *air_line);
     dx[L.chamber_air] = c.air_rate(f.chamber_pressure, *air_chamber);
-    release_line = c.released_volume_rate(f.line_pressure, T(dx[L.line_air]), T(d.line_volume));
-    release_chamber = c.released_volume_rate(f.chamber_pressure, T(dx[L.chamber_air]), chamber_volume);
+    release_line = c.released_volume_rate(at_line, T(dx[L.line_air]), T(d.line_volume));
+    release_chamber = c.released_volume_rate(at_chamber, T(dx[L.chamber_air]), chamber_volume);
     if (L.port_air >= 0) {
       air_port = &x[L.port_air];
+      at_port = air_at_pressure(f.port_pressure, p.polytropic_index);
       dx[L.port_air] = c.air_rate(f.port_pressure, *air_port);
-      release_port = c.released_volume_rate(f.port_pressure, T(dx[L.port_air]), T(d.control_orifice.port_volume));
+      release_port = c.released_volume_rate(at_port, T(dx[L.port_air]), T(d.control_orifice.port_volume));
     }
   }
 
   dx[state::discharge_pressure] =
-      pressure_rate(p, d, f.line_pressure, air_line, T(d.line_volume),
+      pressure_rate(p, d, f.line_pressure, air_line, &at_line, T(d.line_volume),
                     T(f.geometric - f.leakage - f.to_control - f.load - f.relief + release_line));
   if (d.control_orifice.present)
-    dx[L.port_pressure] = pressure_rate(p, d, f.port_pressure, air_port, T(d.control_orifice.port_volume),
+    dx[L.port_pressure] = pressure_rate(p, d, f.port_pressure, air_port, &at_port, T(d.control_orifice.port_volume),
                                         T(f.to_control - f.control_to_case - f.through_orifice + release_port));
   dx[state::control_pressure] =
-      pressure_rate(p, d, f.chamber_pressure, air_chamber, chamber_volume,
+      pressure_rate(p, d, f.chamber_pressure, air_chamber, &at_chamber, chamber_volume,
                     T(f.through_orifice - f.bleed + piston_moment_arm_area * w + release_chamber));
 
   if (modes.swash == Stop::free) {

@@ -39,18 +39,40 @@ T smooth_positive_part(const T& z, double w) {
   return T(w * log(T(1.0 + exp(s))));
 }
 
-// Effective bulk modulus with a free-air fraction x (at atmospheric
-// pressure) that may itself be a state: fluid.hpp's law with x a T.
+// Air taken at atmospheric pressure, at the gauge pressure p (p V^n =
+// const): the absolute pressure (floored as in fluid.hpp) and the factor
+// (p_atm / p_abs)^(1/n) by which its volume shrinks. Computed once per
+// volume and shared by the bulk modulus and the release rate.
 template <class T>
-T bulk_modulus_with_air(const T& gauge_pressure, double beta_oil, const T& air_fraction, double polytropic_index) {
-  if (air_fraction == 0.0) return T(beta_oil);
+struct AirAtPressure {
+  T absolute;
+  T expansion;
+};
+
+template <class T>
+AirAtPressure<T> air_at_pressure(const T& gauge_pressure, double polytropic_index) {
   using std::pow;
   T p_abs = gauge_pressure + atmospheric_pressure;
   if (p_abs < minimum_absolute_pressure) p_abs = T(minimum_absolute_pressure);
-  const T air = air_fraction * pow(T(atmospheric_pressure / p_abs), 1.0 / polytropic_index);
+  return {p_abs, T(pow(T(atmospheric_pressure / p_abs), 1.0 / polytropic_index))};
+}
+
+// Effective bulk modulus with a free-air fraction x (at atmospheric
+// pressure) that may itself be a state: fluid.hpp's law with x a T.
+template <class T>
+T bulk_modulus_with_air(const AirAtPressure<T>& at, double beta_oil, const T& air_fraction, double polytropic_index) {
+  if (air_fraction == 0.0) return T(beta_oil);
+  const T air = air_fraction * at.expansion;
   const T oil = 1.0 - air_fraction;
-  const T compliance = (oil / beta_oil + air / (polytropic_index * p_abs)) / (oil + air);
+  const T compliance = (oil / beta_oil + air / (polytropic_index * at.absolute)) / (oil + air);
   return 1.0 / compliance;
+}
+
+template <class T>
+T bulk_modulus_with_air(const T& gauge_pressure, double beta_oil, const T& air_fraction, double polytropic_index) {
+  if (air_fraction == 0.0) return T(beta_oil);
+  return bulk_modulus_with_air(air_at_pressure(gauge_pressure, polytropic_index), beta_oil, air_fraction,
+                               polytropic_index);
 }
 
 struct CavitationElement {
@@ -104,11 +126,13 @@ struct CavitationElement {
   // Volume per second that air coming out of solution adds to a volume V at
   // pressure p (the released air expands to the local pressure).
   template <class T>
+  T released_volume_rate(const AirAtPressure<T>& at, const T& r_rate, const T& volume) const {
+    return volume * r_rate * at.expansion;
+  }
+
+  template <class T>
   T released_volume_rate(const T& p, const T& r_rate, const T& volume) const {
-    using std::pow;
-    T p_abs = p + atmospheric_pressure;
-    if (p_abs < minimum_absolute_pressure) p_abs = T(minimum_absolute_pressure);
-    return volume * r_rate * pow(T(atmospheric_pressure / p_abs), 1.0 / polytropic_index);
+    return released_volume_rate(air_at_pressure(p, polytropic_index), r_rate, volume);
   }
 };
 
