@@ -38,6 +38,7 @@ class SmallLU {
       pivot_[k] = pivot;
       if (pivot != k) lu_.row(k).swap(lu_.row(pivot));
       const double inverse = 1.0 / lu_(k, k);
+      inverse_diagonal_[k] = inverse;
       for (int i = k + 1; i < K; ++i) {
         const double factor = lu_(i, k) * inverse;
         lu_(i, k) = factor;
@@ -53,13 +54,14 @@ class SmallLU {
       for (int j = 0; j < i; ++j) b[i] -= lu_(i, j) * b[j];
     for (int i = K - 1; i >= 0; --i) {
       for (int j = i + 1; j < K; ++j) b[i] -= lu_(i, j) * b[j];
-      b[i] /= lu_(i, i);
+      b[i] *= inverse_diagonal_[i];
     }
     return b;
   }
 
  private:
   Matrix lu_;
+  double inverse_diagonal_[K];
   int pivot_[K];
 };
 

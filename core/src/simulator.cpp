@@ -69,8 +69,10 @@ class ScaledDynamics {
     ++stats_.jacobian_evaluations;
     const State x = physical(z);
     const ModelParameters& p = params(t);
-    jac = scale_.cwiseInverse().asDiagonal() * swashtune::jacobian(p, segment_.derived(t), modes_, x) *
-          scale_.asDiagonal();
+    jac = swashtune::jacobian(p, segment_.derived(t), modes_, x);
+    const int n = static_cast<int>(z.size());
+    for (int j = 0; j < n; ++j)
+      for (int i = 0; i < n; ++i) jac(i, j) *= scale_[j] / scale_[i];
     if (!segment_.ramping()) {
       dfdt.setZero(z.size());
       return;
