@@ -43,7 +43,8 @@ namespace {
 
 void click_tab(QTabWidget* tabs, const QString& title) {
   for (int i = 0; i < tabs->count(); ++i)
-    if (tabs->tabText(i) == title) QTest::mouseClick(tabs->tabBar(), Qt::LeftButton, {}, tabs->tabBar()->tabRect(i).center());
+    if (tabs->tabText(i) == title)
+      QTest::mouseClick(tabs->tabBar(), Qt::LeftButton, {}, tabs->tabBar()->tabRect(i).center());
 }
 
 QAction* menu_action(QMainWindow& w, const QString& menu, const QString& text) {
@@ -90,13 +91,17 @@ class ViewsTest : public QObject {
       QVERIFY(show_active(w));
       w.openFile(demo);  // full flow at the start: the spool on its stop, the loop inactive
       settle();
-      for (const QString& tab : {QString("Loop margins"), QString("Pressure-flow"), QString("Parameters"),
-                                 QString("Troubleshooting")}) {
+      for (const QString& tab :
+           {QString("Loop margins"), QString("Pressure-flow"), QString("Parameters"), QString("Troubleshooting")}) {
         click_tab(w.sideTabs(), tab);
         settle();
         const double share = double(w.centreTabs()->width()) / w.width();
-        QVERIFY2(share >= 0.4, qPrintable(QString("%1x%2, %3: charts %4 of %5 px").arg(size.width()).arg(size.height())
-                                              .arg(tab).arg(w.centreTabs()->width()).arg(w.width())));
+        QVERIFY2(share >= 0.4, qPrintable(QString("%1x%2, %3: charts %4 of %5 px")
+                                              .arg(size.width())
+                                              .arg(size.height())
+                                              .arg(tab)
+                                              .arg(w.centreTabs()->width())
+                                              .arg(w.width())));
         for (QCustomPlot* plot : w.traces()->plots()) QVERIFY(plot->axisRect()->width() > 250);
         qInfo("%dx%d %s: controls %d px, charts %d px (%.0f %%), side panel %d px, chart plot area %dx%d px",
               size.width(), size.height(), qPrintable(tab), w.controlsDock()->width(), w.centreTabs()->width(),
@@ -111,7 +116,8 @@ class ViewsTest : public QObject {
       w.refreshNow();
       settle();
       const int active = w.sideTabs()->width();
-      QVERIFY2(inactive < active, qPrintable(QString("side panel %1 px inactive, %2 px active").arg(inactive).arg(active)));
+      QVERIFY2(inactive < active,
+               qPrintable(QString("side panel %1 px inactive, %2 px active").arg(inactive).arg(active)));
       const int charts = w.centreTabs()->width();
       press(w, Qt::Key_F9, Qt::NoModifier);
       settle();
@@ -179,13 +185,15 @@ class ViewsTest : public QObject {
     const QPointF at(area.left() + 0.7 * area.width(), area.center().y());
     const double under = plot->xAxis->pixelToCoord(at.x());
     const double span_before = plot->xAxis->range().size();
-    QWheelEvent in(at, plot->mapToGlobal(at), QPoint(), QPoint(0, 120), Qt::NoButton, Qt::NoModifier, Qt::NoScrollPhase, false);
+    QWheelEvent in(at, plot->mapToGlobal(at), QPoint(), QPoint(0, 120), Qt::NoButton, Qt::NoModifier, Qt::NoScrollPhase,
+                   false);
     QApplication::sendEvent(plot, &in);
     settle();
     QVERIFY(plot->xAxis->range().size() < 0.9 * span_before);
     const double pixel = plot->xAxis->range().size() / area.width();
-    QVERIFY2(std::abs(plot->xAxis->pixelToCoord(at.x()) - under) < pixel,
-             qPrintable(QString("%1 s under the cursor became %2 s").arg(under).arg(plot->xAxis->pixelToCoord(at.x()))));
+    QVERIFY2(
+        std::abs(plot->xAxis->pixelToCoord(at.x()) - under) < pixel,
+        qPrintable(QString("%1 s under the cursor became %2 s").arg(under).arg(plot->xAxis->pixelToCoord(at.x()))));
     QVERIFY(!w.traces()->following());
     // Every chart shows the same time.
     QCOMPARE(w.traces()->plots()[0]->xAxis->range().lower, plot->xAxis->range().lower);
@@ -239,12 +247,13 @@ class ViewsTest : public QObject {
     const double p_high = column_value(now, "discharge_pressure");
     QVERIFY(p_high > 200e5);
     QCOMPARE(c->readoutText(0), QString("%1 bar").arg(p_high * 1e-5, 0, 'f', 1));
-    QCOMPARE(c->readoutText(2), QString("%1 deg").arg(column_value(now, "swash_angle") * 180.0 / 3.14159265358979, 0, 'f', 1));
+    QCOMPARE(c->readoutText(2),
+             QString("%1 deg").arg(column_value(now, "swash_angle") * 180.0 / 3.14159265358979, 0, 'f', 1));
     const QColor shut_line = c->lineColour(CircuitView::Line::discharge);
     QVERIFY(shut_line.red() > shut_line.blue());  // near the setting: the warm end
     QCOMPARE(shut_line, pressure_colour(p_high / c->scaleTop()));
     QCOMPARE(c->lineColour(CircuitView::Line::tank), pressure_colour(0.0));
-    QVERIFY(c->strokeShown() < 0.1);     // destroked
+    QVERIFY(c->strokeShown() < 0.1);        // destroked
     QVERIFY(c->spoolShift() > spool_open);  // the spool moved toward supplying the control piston
     // A 270 deg dial: the needle turns by 270 deg times the rise over full scale.
     QVERIFY(std::abs(c->gaugeAngle() - gauge_open - 270.0 * (p_high - p_low) / c->scaleTop()) < 1.0);
@@ -287,6 +296,27 @@ class ViewsTest : public QObject {
     QCOMPARE(w.pressureFlow()->previousPoints(), 0);
   }
 
+  // The default pump's cradle friction makes its characteristic a band,
+  // shaded between a slow closing (above) and a slow opening; a cradle
+  // without friction has one curve.
+  void pressureFlowShowsTheFrictionBand() {
+    MainWindow w(quiet());
+    QVERIFY(show_active(w));
+    w.openFile(demo);
+    click_tab(w.sideTabs(), "Pressure-flow");
+    settle();
+    QCOMPARE(w.pressureFlow()->frictionBandPoints(), 41);
+    const auto edges = w.pressureFlow()->frictionBandAtNoFlow();
+    QVERIFY(edges);
+    QVERIFY2(edges->first > edges->second + 0.5 && edges->first < edges->second + 5.0,
+             qPrintable(QStringLiteral("%1 / %2 bar").arg(edges->first).arg(edges->second)));
+    click_tab(w.sideTabs(), "Parameters");
+    QVERIFY(edit_parameter_cell(w.parameters(), "pump.swash_friction", "0"));
+    w.refreshNow();
+    QCOMPARE(w.pressureFlow()->frictionBandPoints(), 0);
+    QVERIFY(!w.pressureFlow()->frictionBandAtNoFlow());
+  }
+
   // Designs side by side: the study as opened, as edited, a fault variant
   // and a recording on the study's events, figures from core with the
   // differences to the chosen baseline.
@@ -313,7 +343,8 @@ class ViewsTest : public QObject {
     QTest::mouseClick(c->addFaultButton(), Qt::LeftButton);
     QTRY_COMPARE(c->designCount(), 3);
     QVERIFY(c->designName(2).startsWith("entrained air 3 %"));
-    QVERIFY(w.troubleshooting()->loadRecording(QStringLiteral(SWASHTUNE_SOURCE_DIR "/scenarios/field/log-turner-slam.csv")));
+    QVERIFY(w.troubleshooting()->loadRecording(
+        QStringLiteral(SWASHTUNE_SOURCE_DIR "/scenarios/field/log-turner-slam.csv")));
     QVERIFY(c->addRecordingButton()->isEnabled());
     QTest::mouseClick(c->addRecordingButton(), Qt::LeftButton);
     QCOMPARE(c->designCount(), 4);

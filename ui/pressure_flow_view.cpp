@@ -26,6 +26,10 @@ struct PressureFlowView::Impl : QObject {
   QCPGraph* curve = nullptr;
   QCPGraph* previous = nullptr;  // the characteristic before the last change, faint
   QCPGraph* point = nullptr;
+  // With dry friction: the steady states of a slow closing (top edge) and a
+  // slow opening (bottom edge), the band between them shaded.
+  QCPGraph* bandClosing = nullptr;
+  QCPGraph* bandOpening = nullptr;
   QCPItemStraightLine* settingLine = nullptr;
   QCPItemText* settingText = nullptr;
 
@@ -69,6 +73,12 @@ void PressureFlowView::Impl::build() {
   previous = plot->addGraph();
   previous->setVisible(false);
   previous->removeFromLegend();
+  bandOpening = plot->addGraph();
+  bandOpening->removeFromLegend();
+  bandClosing = plot->addGraph();
+  bandClosing->setName(QStringLiteral("friction band: closing / opening"));
+  bandClosing->setChannelFillGraph(bandOpening);
+  bandClosing->removeFromLegend();
   curve = plot->addGraph();
   curve->setName(QStringLiteral("steady characteristic"));
   point = plot->addGraph();
@@ -120,6 +130,15 @@ void PressureFlowView::Impl::applyStyle() {
   point->setScatterStyle(disc);
   point->setPen(QPen(pointColour));
 
+  const QColor edge = blend(curveColour, base, 0.35);
+  for (QCPGraph* g : {bandClosing, bandOpening}) {
+    g->setPen(QPen(edge, 1.0));
+    g->setScatterStyle(QCPScatterStyle::ssNone);
+  }
+  QColor shade = curveColour;
+  shade.setAlpha(dark ? 70 : 45);
+  bandClosing->setBrush(QBrush(shade));
+
   QPen faint(blend(curveColour, base, 0.55), 1.6, Qt::DashLine);
   previous->setPen(faint);
   previous->setScatterStyle(QCPScatterStyle::ssNone);
@@ -143,6 +162,8 @@ void PressureFlowView::Impl::relabel() {
 void PressureFlowView::Impl::redrawCharacteristic() {
   curve->data()->clear();
   previous->data()->clear();
+  bandClosing->data()->clear();
+  bandOpening->data()->clear();
   if (before) {
     QVector<double> x, y;
     for (const CharacteristicPoint& c : before->points) {
@@ -174,6 +195,28 @@ void PressureFlowView::Impl::redrawCharacteristic() {
     maxPressure = std::max(maxPressure, y.back());
   }
   curve->setData(x, y);  // sorted by load flow, which rises with the opening anyway
+  const bool band = characteristic->rising.size() == characteristic->points.size() &&
+                    characteristic->falling.size() == characteristic->points.size();
+  if (band) {
+    // Both edges on the middle curve's flows, so the shading pairs them
+    // point by point (the flows of the edges differ a little).
+    QVector<double> closing, opening;
+    for (std::size_t i = 0; i < characteristic->points.size(); ++i) {
+      closing.append(units.pressure.to_display(characteristic->rising[i].discharge_pressure));
+      opening.append(units.pressure.to_display(characteristic->falling[i].discharge_pressure));
+      maxPressure = std::max(maxPressure, closing.back());
+    }
+    bandClosing->setData(x, closing);
+    bandOpening->setData(x, opening);
+  }
+  if (band != bandClosing->visible() || (band && !plot->legend->hasItemWithPlottable(bandClosing))) {
+    bandClosing->setVisible(band);
+    bandOpening->setVisible(band);
+    if (band)
+      bandClosing->addToLegend();
+    else
+      bandClosing->removeFromLegend();
+  }
 
   const double setting = units.pressure.to_display(setting_pa);
   settingLine->point1->setCoords(0, setting);
@@ -285,6 +328,11 @@ void PressureFlowView::clearPrevious() {
 
 QString PressureFlowView::previousName() const { return d->before ? d->beforeName : QString(); }
 int PressureFlowView::previousPoints() const { return d->previous->visible() ? d->previous->dataCount() : 0; }
+int PressureFlowView::frictionBandPoints() const { return d->bandClosing->visible() ? d->bandClosing->dataCount() : 0; }
+std::optional<std::pair<double, double>> PressureFlowView::frictionBandAtNoFlow() const {
+  if (!d->bandClosing->visible() || d->bandClosing->data()->isEmpty()) return std::nullopt;
+  return std::make_pair(d->bandClosing->data()->constBegin()->value, d->bandOpening->data()->constBegin()->value);
+}
 
 std::optional<std::pair<double, double>> PressureFlowView::operatingPoint() const {
   if (d->point->data()->isEmpty()) return std::nullopt;

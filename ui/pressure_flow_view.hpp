@@ -26,6 +26,10 @@ class PressureFlowView : public QWidget {
   QString previousName() const;
   void clearPrevious();  // a new study: nothing to compare with
   int previousPoints() const;
+  // The friction band's points (0 when the machine has no dry friction) and
+  // its edges at no load flow, display units (closing, opening).
+  int frictionBandPoints() const;
+  std::optional<std::pair<double, double>> frictionBandAtNoFlow() const;
   void setOperatingPoint(double pressure_pa, double load_flow_m3_s);  // the live point
   QCustomPlot* plot() const;
   // The operating point as drawn (display units: flow, pressure); nothing before the first.

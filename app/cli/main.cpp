@@ -318,15 +318,33 @@ int steady_command(const std::string& scenario_path, int points, bool json, cons
   const bool us = *units == UnitSystem::us;
   const double flow_factor = us ? convert(1.0, "m^3/s", "gpm") : convert(1.0, "m^3/s", "L/min");
   const char* flow_unit = us ? "gpm" : "L/min";
-  std::printf("%8s %14s %16s %16s %10s  %s\n", "opening", (std::string("pressure [") + pu.name + "]").c_str(),
+  const bool band = !ch.rising.empty();
+  std::printf("%8s %14s %16s %16s %10s  %s", "opening", (std::string("pressure [") + pu.name + "]").c_str(),
               (std::string("pump flow [") + flow_unit + "]").c_str(),
               (std::string("load flow [") + flow_unit + "]").c_str(), "swash [deg]", "found by");
-  for (const CharacteristicPoint& c : ch.points)
-    std::printf("%8.4f %14.3f %16.3f %16.3f %10.4f  %s\n", c.load_opening, c.discharge_pressure * pu.per_pascal,
+  if (band) std::printf("  %14s %15s", "rising p", "falling p");
+  std::printf("\n");
+  for (std::size_t i = 0; i < ch.points.size(); ++i) {
+    const CharacteristicPoint& c = ch.points[i];
+    std::printf("%8.4f %14.3f %16.3f %16.3f %10.4f  %-8s", c.load_opening, c.discharge_pressure * pu.per_pascal,
                 c.pump_flow * flow_factor, c.load_flow * flow_factor, c.swash_angle * 180.0 / pi, to_string(c.method));
+    if (band)
+      std::printf("  %14.3f %15.3f", ch.rising[i].discharge_pressure * pu.per_pascal,
+                  ch.falling[i].discharge_pressure * pu.per_pascal);
+    std::printf("\n");
+  }
   std::printf("deadhead pressure %.2f %s; cut-in pressure %s %s\n", ch.deadhead_pressure * pu.per_pascal, pu.name,
               ch.cut_in_pressure ? optional_text(*ch.cut_in_pressure * pu.per_pascal, "%.2f").c_str() : "none",
               pu.name);
+  std::string friction;
+  for (const std::string& source : dry_friction_sources(scenario.parameters))
+    friction += (friction.empty() ? "" : ", ") + source;
+  if (band)
+    std::printf(
+        "dry friction (%s) makes the characteristic a band: the pressure column is its middle; \"rising p\" is "
+        "reached while the load closes slowly, \"falling p\" while it opens; at deadhead the two differ by %.2f %s "
+        "(a gauge reading after a closing is that much above one after an opening)\n",
+        friction.c_str(), *ch.deadhead_hysteresis * pu.per_pascal, pu.name);
   std::printf("%s\n", safety_notice_short);
   return exit_ok;
 }

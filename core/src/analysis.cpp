@@ -769,8 +769,7 @@ StabilityReport analyse_stability(const ModelParameters& p, const RunSettings& s
   report.stable = report.closed_loop_unstable_poles == 0;
   report.margins = loop_margins(report.model);
   report.margins_apply = report.model.loop_active && report.open_loop_unstable_poles == 0 &&
-                         !report.dry_friction_dominates &&
-                         report.operating_point.converged;
+                         !report.dry_friction_dominates && report.operating_point.converged;
   report.note = margins_note(p, report);
   report.explanation = explain_stability(report);
   if (report.dry_friction && !report.dry_friction_dominates) {
@@ -801,6 +800,24 @@ Characteristic steady_characteristic(const ModelParameters& p, const RunSettings
   };
   for (int i = 0; i < points; ++i) ch.points.push_back(solve_at(static_cast<double>(i) / (points - 1)));
   ch.deadhead_pressure = ch.points.front().discharge_pressure;
+
+  if (has_dry_friction(p)) {
+    for (const int branch : {+1, -1}) {
+      ModelParameters q = p;
+      q.friction_branch = branch;
+      std::optional<InitialCondition> chained;
+      std::vector<CharacteristicPoint>& curve = branch > 0 ? ch.rising : ch.falling;
+      for (const CharacteristicPoint& middle : ch.points) {
+        q.opening = middle.load_opening;
+        const OperatingPoint op = steady_state(q, settings, chained);
+        chained = op.condition;
+        const Sample s = make_sample(0.0, op.condition.x, q);
+        curve.push_back(CharacteristicPoint{q.opening, op.condition.x[state::discharge_pressure], s.pump_flow,
+                                            s.load_flow, op.condition.x[state::swash_angle], op.method});
+      }
+    }
+    ch.deadhead_hysteresis = ch.rising.front().discharge_pressure - ch.falling.front().discharge_pressure;
+  }
 
   // Cut-in: the pump flow 5 % below the full-stroke flow at that pressure.
   const double full_flow = p.displacement * p.speed / 60.0;

@@ -58,6 +58,7 @@ Derived::Derived(const ModelParameters& p) {
   coulomb_friction = p.fault_spool_friction;
   breakaway_friction = p.fault_spool_friction * p.fault_stiction_ratio;
   swash_friction = p.swash_friction;
+  friction_branch = p.friction_branch;
   cavitation = CavitationElement(p);
   control_orifice = ControlOrificeElement(p);
   relief = ReliefValveElement(p);

@@ -331,16 +331,23 @@ std::string characteristic_json(const Characteristic& ch) {
   std::ostringstream o;
   o << "{\n  \"deadhead_pressure_Pa\": " << json_number(ch.deadhead_pressure) << ",\n";
   o << "  \"cut_in_pressure_Pa\": " << json_optional(ch.cut_in_pressure) << ",\n";
-  o << "  \"points\": [";
-  for (std::size_t i = 0; i < ch.points.size(); ++i) {
-    const CharacteristicPoint& c = ch.points[i];
-    o << (i ? ",\n    " : "\n    ") << "{ \"load_opening\": " << json_number(c.load_opening)
-      << ", \"discharge_pressure_Pa\": " << json_number(c.discharge_pressure)
-      << ", \"pump_flow_m3_s\": " << json_number(c.pump_flow) << ", \"load_flow_m3_s\": " << json_number(c.load_flow)
-      << ", \"swash_angle_rad\": " << json_number(c.swash_angle) << ", \"method\": " << json_string(to_string(c.method))
-      << " }";
-  }
-  o << "\n  ]\n}\n";
+  auto curve = [&](const char* name, const std::vector<CharacteristicPoint>& points, bool last) {
+    o << "  \"" << name << "\": [";
+    for (std::size_t i = 0; i < points.size(); ++i) {
+      const CharacteristicPoint& c = points[i];
+      o << (i ? ",\n    " : "\n    ") << "{ \"load_opening\": " << json_number(c.load_opening)
+        << ", \"discharge_pressure_Pa\": " << json_number(c.discharge_pressure)
+        << ", \"pump_flow_m3_s\": " << json_number(c.pump_flow) << ", \"load_flow_m3_s\": " << json_number(c.load_flow)
+        << ", \"swash_angle_rad\": " << json_number(c.swash_angle)
+        << ", \"method\": " << json_string(to_string(c.method)) << " }";
+    }
+    o << (points.empty() ? "]" : "\n  ]") << (last ? "\n" : ",\n");
+  };
+  o << "  \"deadhead_hysteresis_Pa\": " << json_optional(ch.deadhead_hysteresis) << ",\n";
+  curve("points", ch.points, false);
+  curve("rising", ch.rising, false);
+  curve("falling", ch.falling, true);
+  o << "}\n";
   return o.str();
 }
 

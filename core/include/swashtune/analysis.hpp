@@ -185,6 +185,14 @@ struct Characteristic {
   std::vector<CharacteristicPoint> points;  // openings from 0 to 1
   double deadhead_pressure = 0.0;           // Pa, at opening 0
   std::optional<double> cut_in_pressure;    // Pa, where the pump flow is 5 % below its full-stroke flow
+  // With dry friction (cradle or spool) the characteristic is a band: the
+  // steady states reached while the load valve closes slowly (the pressure
+  // rises, the swash destrokes against its friction) and while it opens
+  // slowly, each friction held at its sliding level. Both empty without dry
+  // friction; `points` is then the one curve, else the band's middle.
+  std::vector<CharacteristicPoint> rising, falling;  // the same openings as `points`
+  // Deadhead pressure on the rising branch less that on the falling one.
+  std::optional<double> deadhead_hysteresis;
 };
 
 Characteristic steady_characteristic(const ModelParameters& p, const RunSettings& settings, int points);

@@ -90,6 +90,7 @@ struct Derived {
   double coulomb_friction;
   double breakaway_friction;
   double swash_friction;
+  int friction_branch;  // ModelParameters::friction_branch
   CavitationElement cavitation;
   ControlOrificeElement control_orifice;
   ReliefValveElement relief;
@@ -206,10 +207,13 @@ T spool_static_force(const ModelParameters& p, const Derived& d, const FlowsOf<T
          spool_flow_force(d, f);
 }
 
-// Friction force on a spool moving at v (opposes the motion).
+// Friction force on a spool moving at v (opposes the motion). On a
+// quasi-static friction branch the spool slides the way a rising (+1) or
+// falling (-1) pressure moves it, at the Coulomb level.
 template <class T>
 T spool_friction(const Derived& d, const T& v) {
   if (d.coulomb_friction == 0.0) return T(0.0);
+  if (d.friction_branch != 0) return T(-d.friction_branch * d.coulomb_friction);
   using std::exp;
   using std::tanh;
   const T ratio = v / stribeck_speed;
@@ -217,10 +221,13 @@ T spool_friction(const Derived& d, const T& v) {
   return T(-level * tanh(T(v / friction_smoothing_speed)));
 }
 
-// Coulomb friction moment of the swash cradle at angular speed w.
+// Coulomb friction moment of the swash cradle at angular speed w. On a
+// quasi-static branch a rising pressure (+1) destrokes the plate (w < 0), so
+// the friction strokes it; a falling one the reverse.
 template <class T>
 T swash_friction(const Derived& d, const T& w) {
   if (d.swash_friction == 0.0) return T(0.0);
+  if (d.friction_branch != 0) return T(d.friction_branch * d.swash_friction);
   using std::tanh;
   return T(-d.swash_friction * tanh(T(w / swash_friction_smoothing_speed)));
 }

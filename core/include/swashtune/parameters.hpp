@@ -89,6 +89,12 @@ struct ModelParameters {
   double fault_setting_drift = 0;
   double fault_line_volume_factor = 0;
   double fault_case_pressure = 0;
+  // Not a registry entry, never read from a file: +1 or -1 holds every dry
+  // friction at its sliding level, as while the pressure rises slowly (the
+  // swash destrokes, the spool opens to the control port) or falls slowly.
+  // The steady characteristic's friction band is the steady states of the
+  // two. 0, in every run: friction follows the speed.
+  int friction_branch = 0;
 };
 
 // Settings of a run that are not physics.
