@@ -96,22 +96,9 @@ Jacobian jacobian_of_size(const ModelParameters& p, const Derived& d, const Stop
 
 Jacobian jacobian(const ModelParameters& p, const Derived& d, const StopModes& modes, const State& x,
                   const double* pump_flow_angle) {
-  switch (x.size()) {
-    case 6:
-      return jacobian_of_size<6>(p, d, modes, x, pump_flow_angle);
-    case 7:
-      return jacobian_of_size<7>(p, d, modes, x, pump_flow_angle);
-    case 8:
-      return jacobian_of_size<8>(p, d, modes, x, pump_flow_angle);
-    case 9:
-      return jacobian_of_size<9>(p, d, modes, x, pump_flow_angle);
-    case 10:
-      return jacobian_of_size<10>(p, d, modes, x, pump_flow_angle);
-    case 11:
-      return jacobian_of_size<11>(p, d, modes, x, pump_flow_angle);
-    default:
-      return jacobian_of_size<Eigen::Dynamic>(p, d, modes, x, pump_flow_angle);
-  }
+  return with_layout_size(static_cast<int>(x.size()), [&](auto size) {
+    return jacobian_of_size<decltype(size)::value>(p, d, modes, x, pump_flow_angle);
+  });
 }
 
 State flow_angle_sensitivity(const ModelParameters& p, const Derived& d, const StopModes& modes, const State& x,

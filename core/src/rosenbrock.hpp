@@ -13,6 +13,8 @@
 #include <cmath>
 #include <utility>
 
+#include "swashtune/model/layout.hpp"
+
 namespace swashtune::detail {
 
 // LU factorisation with partial pivoting of a K x K matrix, K fixed and
@@ -143,22 +145,8 @@ class Rosenbrock4 {
       point_x_ = x;
       have_point_ = true;
     }
-    switch (x.size()) {
-      case 6:
-        return stages<6>(system, x, t, x_out, dt, x_err);
-      case 7:
-        return stages<7>(system, x, t, x_out, dt, x_err);
-      case 8:
-        return stages<8>(system, x, t, x_out, dt, x_err);
-      case 9:
-        return stages<9>(system, x, t, x_out, dt, x_err);
-      case 10:
-        return stages<10>(system, x, t, x_out, dt, x_err);
-      case 11:
-        return stages<11>(system, x, t, x_out, dt, x_err);
-      default:
-        return stages<N>(system, x, t, x_out, dt, x_err);
-    }
+    with_layout_size(static_cast<int>(x.size()),
+                     [&](auto size) { stages<decltype(size)::value>(system, x, t, x_out, dt, x_err); });
   }
 
   // The stages with vectors and matrices of K entries (K fixed for the

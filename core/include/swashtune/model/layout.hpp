@@ -6,6 +6,7 @@
 #pragma once
 
 #include <Eigen/Core>
+#include <type_traits>
 
 namespace swashtune {
 
@@ -27,6 +28,30 @@ template <class T>
 using StateOf = Eigen::Matrix<T, Eigen::Dynamic, 1, 0, max_states, 1>;
 using State = StateOf<double>;
 using Jacobian = Eigen::Matrix<double, Eigen::Dynamic, Eigen::Dynamic, 0, max_states, max_states>;
+
+// Calls f(std::integral_constant<int, K>{}) with K = n for the layout sizes
+// that occur (6 to 11 states), else with K = Eigen::Dynamic: fixed-size
+// Eigen code, which the compiler unrolls, for the common layouts and one
+// generic instance for the rest. Every instance must return the same type.
+template <class F>
+decltype(auto) with_layout_size(int n, F&& f) {
+  switch (n) {
+    case 6:
+      return f(std::integral_constant<int, 6>{});
+    case 7:
+      return f(std::integral_constant<int, 7>{});
+    case 8:
+      return f(std::integral_constant<int, 8>{});
+    case 9:
+      return f(std::integral_constant<int, 9>{});
+    case 10:
+      return f(std::integral_constant<int, 10>{});
+    case 11:
+      return f(std::integral_constant<int, 11>{});
+    default:
+      return f(std::integral_constant<int, Eigen::Dynamic>{});
+  }
+}
 
 // Where the optional elements keep their states; -1 when absent.
 struct Layout {
