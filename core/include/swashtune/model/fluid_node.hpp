@@ -58,7 +58,8 @@ AirAtPressure<T> air_at_pressure(const T& gauge_pressure, double polytropic_inde
 }
 
 // Effective bulk modulus with a free-air fraction x (at atmospheric
-// pressure) that may itself be a state: fluid.hpp's law with x a T.
+// pressure) that may itself be a state: fluid.hpp's law with x a T, at the
+// air's state `at` of the volume's pressure.
 template <class T>
 T bulk_modulus_with_air(const AirAtPressure<T>& at, double beta_oil, const T& air_fraction, double polytropic_index) {
   if (air_fraction == 0.0) return T(beta_oil);
@@ -66,13 +67,6 @@ T bulk_modulus_with_air(const AirAtPressure<T>& at, double beta_oil, const T& ai
   const T oil = 1.0 - air_fraction;
   const T compliance = (oil / beta_oil + air / (polytropic_index * at.absolute)) / (oil + air);
   return 1.0 / compliance;
-}
-
-template <class T>
-T bulk_modulus_with_air(const T& gauge_pressure, double beta_oil, const T& air_fraction, double polytropic_index) {
-  if (air_fraction == 0.0) return T(beta_oil);
-  return bulk_modulus_with_air(air_at_pressure(gauge_pressure, polytropic_index), beta_oil, air_fraction,
-                               polytropic_index);
 }
 
 struct CavitationElement {
@@ -128,11 +122,6 @@ struct CavitationElement {
   template <class T>
   T released_volume_rate(const AirAtPressure<T>& at, const T& r_rate, const T& volume) const {
     return volume * r_rate * at.expansion;
-  }
-
-  template <class T>
-  T released_volume_rate(const T& p, const T& r_rate, const T& volume) const {
-    return released_volume_rate(air_at_pressure(p, polytropic_index), r_rate, volume);
   }
 };
 
