@@ -336,15 +336,12 @@ int steady_command(const std::string& scenario_path, int points, bool json, cons
   std::printf("deadhead pressure %.2f %s; cut-in pressure %s %s\n", ch.deadhead_pressure * pu.per_pascal, pu.name,
               ch.cut_in_pressure ? optional_text(*ch.cut_in_pressure * pu.per_pascal, "%.2f").c_str() : "none",
               pu.name);
-  std::string friction;
-  for (const std::string& source : dry_friction_sources(scenario.parameters))
-    friction += (friction.empty() ? "" : ", ") + source;
   if (band)
     std::printf(
         "dry friction (%s) makes the characteristic a band: the pressure column is its middle; \"rising p\" is "
         "reached while the load closes slowly, \"falling p\" while it opens; at deadhead the two differ by %.2f %s "
         "(a gauge reading after a closing is that much above one after an opening)\n",
-        friction.c_str(), *ch.deadhead_hysteresis * pu.per_pascal, pu.name);
+        listed_dry_friction(scenario.parameters).c_str(), *ch.deadhead_hysteresis * pu.per_pascal, pu.name);
   std::printf("%s\n", safety_notice_short);
   return exit_ok;
 }

@@ -602,6 +602,12 @@ std::vector<std::string> dry_friction_sources(const ModelParameters& p) {
   return sources;
 }
 
+std::string listed_dry_friction(const ModelParameters& p) {
+  std::string which;
+  for (const std::string& source : dry_friction_sources(p)) which += (which.empty() ? "" : ", ") + source;
+  return which;
+}
+
 bool has_dry_friction(const ModelParameters& p) { return !dry_friction_sources(p).empty(); }
 
 bool dry_friction_dominates(const ModelParameters& p) {
@@ -630,13 +636,6 @@ std::string format(const char* pattern, ...) {
   std::vsnprintf(buffer, sizeof buffer, pattern, args);
   va_end(args);
   return buffer;
-}
-
-// "faults.spool_friction = 15 N, pump.swash_friction = 5 N*m", for the notes.
-std::string listed_dry_friction(const ModelParameters& p) {
-  std::string which;
-  for (const std::string& source : dry_friction_sources(p)) which += (which.empty() ? "" : ", ") + source;
-  return which;
 }
 
 // Why the margins are not stability margins, in plain words; empty when they are.
@@ -788,50 +787,49 @@ StabilityReport analyse_stability(const ModelParameters& p, const RunSettings& s
 Characteristic steady_characteristic(const ModelParameters& p, const RunSettings& settings, int points) {
   Characteristic ch;
   points = std::max(points, 2);
-  std::optional<InitialCondition> previous;
-  auto solve_at = [&](double opening) {
-    ModelParameters q = p;
+  // The steady state of `base` at an opening, from `guess` (then updated to it).
+  auto solve_at = [&](const ModelParameters& base, double opening, std::optional<InitialCondition>& guess) {
+    ModelParameters q = base;
     q.opening = opening;
-    const OperatingPoint op = steady_state(q, settings, previous);
-    previous = op.condition;
+    const OperatingPoint op = steady_state(q, settings, guess);
+    guess = op.condition;
     const Sample s = make_sample(0.0, op.condition.x, q);
     return CharacteristicPoint{opening,     op.condition.x[state::discharge_pressure], s.pump_flow,
                                s.load_flow, op.condition.x[state::swash_angle],        op.method};
   };
-  for (int i = 0; i < points; ++i) ch.points.push_back(solve_at(static_cast<double>(i) / (points - 1)));
+  // Continuation over the openings, each point started from the last.
+  auto curve_of = [&](const ModelParameters& base) {
+    std::vector<CharacteristicPoint> curve;
+    std::optional<InitialCondition> guess;
+    for (int i = 0; i < points; ++i) curve.push_back(solve_at(base, static_cast<double>(i) / (points - 1), guess));
+    return curve;
+  };
+  ch.points = curve_of(p);
   ch.deadhead_pressure = ch.points.front().discharge_pressure;
 
   if (has_dry_friction(p)) {
-    for (const int branch : {+1, -1}) {
-      ModelParameters q = p;
-      q.friction_branch = branch;
-      std::optional<InitialCondition> chained;
-      std::vector<CharacteristicPoint>& curve = branch > 0 ? ch.rising : ch.falling;
-      for (const CharacteristicPoint& middle : ch.points) {
-        q.opening = middle.load_opening;
-        const OperatingPoint op = steady_state(q, settings, chained);
-        chained = op.condition;
-        const Sample s = make_sample(0.0, op.condition.x, q);
-        curve.push_back(CharacteristicPoint{q.opening, op.condition.x[state::discharge_pressure], s.pump_flow,
-                                            s.load_flow, op.condition.x[state::swash_angle], op.method});
-      }
-    }
+    ModelParameters branch = p;
+    branch.friction_branch = +1;
+    ch.rising = curve_of(branch);
+    branch.friction_branch = -1;
+    ch.falling = curve_of(branch);
     ch.deadhead_hysteresis = ch.rising.front().discharge_pressure - ch.falling.front().discharge_pressure;
   }
 
   // Cut-in: the pump flow 5 % below the full-stroke flow at that pressure.
   const double full_flow = p.displacement * p.speed / 60.0;
+  const double leakage_coefficient = Derived(p).leakage_coefficient;
   auto shortfall = [&](const CharacteristicPoint& c) {
-    return c.pump_flow - 0.95 * (full_flow - Derived(p).leakage_coefficient * c.discharge_pressure);
+    return c.pump_flow - 0.95 * (full_flow - leakage_coefficient * c.discharge_pressure);
   };
   for (std::size_t i = 0; i + 1 < ch.points.size(); ++i) {
     if ((shortfall(ch.points[i]) < 0.0) != (shortfall(ch.points[i + 1]) < 0.0)) {
       double lo = ch.points[i].load_opening, hi = ch.points[i + 1].load_opening;
       const bool low_is_short = shortfall(ch.points[i]) < 0.0;
       CharacteristicPoint at = ch.points[i];
-      previous = std::nullopt;
+      std::optional<InitialCondition> guess;
       for (int it = 0; it < 40; ++it) {
-        at = solve_at(0.5 * (lo + hi));
+        at = solve_at(p, 0.5 * (lo + hi), guess);
         ((shortfall(at) < 0.0) == low_is_short ? lo : hi) = at.load_opening;
       }
       ch.cut_in_pressure = at.discharge_pressure;

@@ -121,6 +121,8 @@ std::optional<int> nyquist_encirclements(const LinearModel& m);
 // value ("faults.spool_friction = 15 N"); a linear model cannot describe the
 // stick-slip it causes. Every friction parameter belongs here.
 std::vector<std::string> dry_friction_sources(const ModelParameters& p);
+// The same as one line: "faults.spool_friction = 15 N, pump.swash_friction = 5 N*m".
+std::string listed_dry_friction(const ModelParameters& p);
 bool has_dry_friction(const ModelParameters& p);
 
 // Whether dry friction decides the loop's small motions, so that no linear
