@@ -3,10 +3,10 @@
 
 #include <cmath>
 
-#include "v1_pump.hpp"
 #include "swashtune/fluid.hpp"
 #include "swashtune/model.hpp"
 #include "swashtune/parameters.hpp"
+#include "v1_pump.hpp"
 
 using namespace swashtune;
 
@@ -15,7 +15,7 @@ double classic_orifice(double cd, double area, double dp, double rho) { return c
 }  // namespace
 
 // Q = Cd A sqrt(2 dp / rho), Merritt, Hydraulic Control Systems, 1967, ch. 3.
-// check-values.md (computed from that law): Cd 0.61, d = 1 mm, dp = 100 bar,
+// Computed from that law: Cd 0.61, d = 1 mm, dp = 100 bar,
 // rho = 870 -> 4.36 L/min.
 TEST(OrificeLaw, MatchesClassicTurbulentLawFarAboveTransition) {
   const double area = pi / 4.0 * 1e-3 * 1e-3;
@@ -50,7 +50,7 @@ TEST(BulkModulus, EntrainedAirAtTwoPressuresMatchesHandWork) {
 
 // The same law in the series-compliance form of Merritt (Hydraulic Control
 // Systems, 1967, ch. 2; from memory): 1/beta_e = 1/beta_oil + (V_air/V)/(n p_abs).
-// check-values.md computes it for 1 % air by volume at 7.1 MPa absolute:
+// Computed from it for 1 % air by volume at 7.1 MPa absolute:
 // 0.492 GPa isothermal, 0.613 GPa adiabatic. model.md states its air
 // fraction at atmospheric pressure, so give it the fraction x_a that has
 // shrunk to 1 % of the mixture at 7.1 MPa: with s = (p_atm/p_abs)^(1/n),
@@ -103,10 +103,10 @@ TEST(Model, JacobianMatchesFiniteDifferences) {
   }
 }
 
-// Steady flow force: check-values.md computes, from Merritt's
+// Steady flow force, computed from Merritt's
 // F = 2 Cd Cv w x dp cos(69 deg) (ch. 5; from memory), 13.7 N for a 10 mm
 // spool with a full-circumference port open 0.1 mm at 100 bar, Cd 0.61.
-TEST(Model, FlowForceMatchesWorkedValue) {
+TEST(Model, FlowForceMatchesMerrittsLaw) {
   ModelParameters p = v1_pump();
   p.spool_discharge_coefficient = 0.61;
   p.port_width = pi * 0.010;

