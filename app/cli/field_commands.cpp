@@ -221,7 +221,8 @@ struct FieldCommands::Options {
   CLI::App* field = nullptr;
   CLI::App* fit = nullptr;
   TraceFlags trace;
-  std::string trace_path, scenario_path, free_keys, fitted_path;
+  std::string trace_path, scenario_path, free_keys, fitted_path, fitted_trace_path;
+  int starts = FitOptions{}.starts;
   std::optional<std::string> from, to, event_threshold, speed;
   std::optional<double> pistons;
   bool json = false;
@@ -255,6 +256,13 @@ FieldCommands::FieldCommands(CLI::App& app) : o_(std::make_unique<Options>()) {
                    "Parameters to estimate, comma-separated, e.g. line.volume,fluid.air_fraction")
       ->required();
   o.fit->add_option("--out", o.fitted_path, "Also write the scenario with the fitted values to this file");
+  o.fit->add_option("--starts", o.starts, "Search from this many starts (the scenario's values and others spread "
+                                          "over each parameter's span); 1 searches once")
+      ->capture_default_str()
+      ->check(CLI::Range(1, 50));
+  o.fit->add_option("--fitted-trace", o.fitted_trace_path,
+                    "Write the recording and the fitted pressure at its samples to this CSV, to plot one over "
+                    "the other");
   o.fit->add_flag("--json", o.json, "Print JSON (SI)");
   o.fit->add_option("--units", o.units, "Units of the report: si, metric or us")->capture_default_str();
   add_trace_flags(o.fit, o.trace);
@@ -308,11 +316,13 @@ int field_command(FieldCommands& self, const std::string& path, const TraceFlags
 }
 
 int fit_command(const std::string& scenario_path, const std::string& trace_path, const TraceFlags& flags,
-                const std::string& free, bool json, const std::string& out_path, UnitSystem units) {
+                const std::string& free, bool json, const std::string& out_path, const std::string& fitted_trace_path,
+                int starts, UnitSystem units) {
   const Scenario scenario = load_study(scenario_path);
   const FieldTrace trace = read_field_trace(trace_path, read_options(flags));
   FitOptions options;
   options.free_keys = split_list(free);
+  options.starts = starts;
   const bool terminal = ::isatty(::fileno(stderr)) != 0;  // progress only where a person watches
   const FitResult fit = fit_to_trace(scenario, trace, options, [terminal](int simulations, double rms) {
     if (terminal) std::fprintf(stderr, "\rfit: %d simulations, rms residual %s   ", simulations, bar(rms).c_str());
@@ -320,6 +330,7 @@ int fit_command(const std::string& scenario_path, const std::string& trace_path,
   });
   if (terminal) std::fprintf(stderr, "\n");
   if (!out_path.empty()) write_file_atomically(out_path, scenario_to_toml(fit.fitted));
+  if (!fitted_trace_path.empty()) write_file_atomically(fitted_trace_path, fit_trace_csv(fit));
   if (json) {
     std::cout << fit_json(fit);
     return 0;
@@ -332,7 +343,10 @@ int fit_command(const std::string& scenario_path, const std::string& trace_path,
                 u.format(p.standard_error, 2).c_str(), p.note.empty() ? "" : "  (",
                 p.note.empty() ? "" : (p.note + ")").c_str());
   }
-  std::printf("rms residual %s (was %s)\n", bar(fit.rms).c_str(), bar(fit.initial_rms).c_str());
+  std::printf("rms residual %s (was %s); noise of the recording %s\n", bar(fit.rms).c_str(),
+              bar(fit.initial_rms).c_str(), bar(fit.noise).c_str());
+  if (!fit.starts_note.empty()) std::printf("starts: %s\n", fit.starts_note.c_str());
+  if (!fit.cancelled) std::printf("verdict: %s\n", fit.verdict_text.c_str());
   std::printf("%s\n", safety_notice_recording);
   return 0;
 }
@@ -346,7 +360,8 @@ int FieldCommands::run() {
   if (o.field->parsed())
     return field_command(*this, o.trace_path, o.trace, o.from, o.to, o.event_threshold, o.scenario_path, o.pistons,
                          o.speed, o.json);
-  return fit_command(o.scenario_path, o.trace_path, o.trace, o.free_keys, o.json, o.fitted_path, units);
+  return fit_command(o.scenario_path, o.trace_path, o.trace, o.free_keys, o.json, o.fitted_path, o.fitted_trace_path,
+                     o.starts, units);
 }
 
 }  // namespace swashtune::cli

@@ -93,6 +93,30 @@ std::string seconds_text(double s) {
 
 // ---------------------------------------------------------------- pass 1
 
+// The middle sample of five less the cubic through the other four, scaled
+// so that white noise of deviation sigma gives residuals of deviation sigma
+// (Gasser, Sroka & Jennen-Steinmetz 1986).
+double pseudo_residual(const double t[5], const double y[5]) {
+  const int nodes[4] = {0, 1, 3, 4};
+  double prediction = 0.0, weight_squares = 0.0;
+  for (int a : nodes) {
+    double w = 1.0;
+    for (int b : nodes)
+      if (b != a) w *= (t[2] - t[b]) / (t[a] - t[b]);
+    prediction += w * y[a];
+    weight_squares += w * w;
+  }
+  return (y[2] - prediction) / std::sqrt(1.0 + weight_squares);
+}
+
+double spread_by_mad(const std::vector<double>& residuals) {
+  if (residuals.size() < 5) return 0.0;
+  const double centre = median_of(residuals);
+  std::vector<double> deviation(residuals.size());
+  for (std::size_t i = 0; i < residuals.size(); ++i) deviation[i] = std::abs(residuals[i] - centre);
+  return mad_to_sigma * median_of(deviation);
+}
+
 class Levels {
  public:
   explicit Levels(const FieldAnalysisOptions& o) : options_(o), random_(1) {}
@@ -121,27 +145,12 @@ class Levels {
         t[k] = window_t_[(filled_ + static_cast<std::size_t>(k)) % 5];
         y[k] = window_y_[(filled_ + static_cast<std::size_t>(k)) % 5];
       }
-      const int nodes[4] = {0, 1, 3, 4};
-      double prediction = 0.0, weight_squares = 0.0;
-      for (int a : nodes) {
-        double w = 1.0;
-        for (int b : nodes)
-          if (b != a) w *= (t[2] - t[b]) / (t[a] - t[b]);
-        prediction += w * y[a];
-        weight_squares += w * w;
-      }
-      keep((y[2] - prediction) / std::sqrt(1.0 + weight_squares));
+      keep(pseudo_residual(t, y));
     }
     return true;
   }
 
-  double noise() const {
-    if (reservoir_.size() < 5) return 0.0;
-    const double centre = median_of(reservoir_);
-    std::vector<double> deviation(reservoir_.size());
-    for (std::size_t i = 0; i < reservoir_.size(); ++i) deviation[i] = std::abs(reservoir_[i] - centre);
-    return mad_to_sigma * median_of(deviation);
-  }
+  double noise() const { return spread_by_mad(reservoir_); }
 
   std::size_t samples = 0, speeds = 0;
   double first = 0.0, last = 0.0, sum = 0.0, speed_sum = 0.0;
@@ -1048,6 +1057,14 @@ std::string field_analysis_json(const FieldAnalysis& a) {
   for (std::size_t i = 0; i < a.notes.size(); ++i) o << (i ? ", " : "") << json_string(a.notes[i]);
   o << "]\n}\n";
   return o.str();
+}
+
+double measurement_noise(const std::vector<double>& time, const std::vector<double>& pressure) {
+  std::vector<double> residuals;
+  const std::size_t n = std::min(time.size(), pressure.size());
+  if (n >= 5) residuals.reserve(n - 4);
+  for (std::size_t i = 0; i + 4 < n; ++i) residuals.push_back(pseudo_residual(&time[i], &pressure[i]));
+  return spread_by_mad(residuals);
 }
 
 }  // namespace swashtune

@@ -402,7 +402,40 @@ std::string fit_json(const FitResult& fit) {
   o << "\n  ],\n  \"initial_rms_residual_Pa\": " << json_number(fit.initial_rms)
     << ",\n  \"rms_residual_Pa\": " << json_number(fit.rms) << ",\n  \"samples\": " << fit.samples
     << ",\n  \"simulations\": " << fit.simulations << ",\n  \"converged\": " << (fit.converged ? "true" : "false")
-    << ",\n  \"message\": " << json_string(fit.message) << "\n}\n";
+    << ",\n  \"stop\": " << json_string(to_string(fit.stop))
+    << ",\n  \"remaining_step_standard_errors\": " << json_number(fit.remaining_step)
+    << ",\n  \"message\": " << json_string(fit.message) << ",\n  \"noise_Pa\": " << json_number(fit.noise)
+    << ",\n  \"residual_to_noise\": " << json_number(fit.residual_to_noise)
+    << ",\n  \"verdict\": " << json_string(to_string(fit.verdict))
+    << ",\n  \"verdict_text\": " << json_string(fit.verdict_text)
+    << ",\n  \"starts_agree\": " << (fit.starts_agree ? "true" : "false")
+    << ",\n  \"starts_note\": " << json_string(fit.starts_note) << ",\n  \"starts\": [";
+  for (std::size_t k = 0; k < fit.starts.size(); ++k) {
+    const FitStart& s = fit.starts[k];
+    const auto list = [&o](const std::vector<double>& v) {
+      o << "[";
+      for (std::size_t i = 0; i < v.size(); ++i) o << (i ? ", " : "") << json_number(v[i]);
+      o << "]";
+    };
+    o << (k ? ",\n    " : "\n    ") << "{ \"start\": ";
+    list(s.start);
+    o << ", \"end\": ";
+    list(s.end);
+    o << ", \"rms_residual_Pa\": " << json_number(s.rms) << ", \"stop\": " << json_string(to_string(s.stop))
+      << ", \"criterion\": " << json_string(s.criterion) << ", \"simulations\": " << s.simulations
+      << ", \"same_minimum\": " << (s.same_minimum ? "true" : "false") << " }";
+  }
+  o << (fit.starts.empty() ? "]" : "\n  ]") << "\n}\n";
+  return o.str();
+}
+
+std::string fit_trace_csv(const FitResult& fit) {
+  std::ostringstream o;
+  o << "time_s,recorded_Pa,fitted_Pa,residual_Pa\n";
+  o.precision(10);
+  for (std::size_t i = 0; i < fit.times.size() && i < fit.simulated.size(); ++i)
+    o << fit.times[i] << "," << fit.measured[i] << "," << fit.simulated[i] << "," << fit.simulated[i] - fit.measured[i]
+      << "\n";
   return o.str();
 }
 

@@ -213,6 +213,20 @@ def fit_recordings(cli):
     write(os.path.join(folder, "slam-other-machine.csv"), lines)
 
 
+def hunting_recording(cli):
+    """The oversized-damping-orifice plant's first 0.1 s (hunting at about
+    470 Hz from the setting's nudge at 50 ms), 10 kHz, 0.05 bar noise: a
+    fit of the line volume to it has local minima (one per cycle slipped)."""
+    cols, q_full, f_r = reference_run(cli, "scenarios/hunting-oversized-damping-orifice.toml", duration=0.1,
+                                      dt=0.1e-3)
+    t, p = spoil(cols, q_full, f_r, seed=13, noise=0.05 * BAR, ripple_pp=0.0, offset=0.0, quantum=0.0)
+    lines = ["# Made by tests/python/make_field_demos.py: the scipy reference of",
+             "# scenarios/hunting-oversized-damping-orifice.toml (line.volume 0.25 L), 0 to 0.1 s, 0.05 bar noise.",
+             "time_s,pressure_bar"]
+    lines += ["%.6f,%.4f" % (ti, pi / BAR) for ti, pi in zip(t, p)]
+    write(os.path.join(ROOT, "tests/data/fit/hunting-reference.csv"), lines)
+
+
 def main(argv=None):
     ap = argparse.ArgumentParser(description="Make the demo and fit-test recordings with the scipy reference.")
     ap.add_argument("--cli", default=os.path.join(ROOT, "build/app/swashtune-cli"),
@@ -224,6 +238,7 @@ def main(argv=None):
         line2_pusher_hunting(args.cli)
     if args.only in (None, "fit"):
         fit_recordings(args.cli)
+        hunting_recording(args.cli)
     return 0
 
 

@@ -100,6 +100,11 @@ struct FieldAnalysis {
 // deviations and 0.1 bar.
 double default_event_threshold(double highest_pressure, double noise);
 
+// The noise of a recording (Pa): the spread (MAD) of the pseudo-residuals of
+// a local cubic through every five consecutive samples, as `field` reports
+// it. Ripple and other fast, smooth motion shows in it only in part.
+double measurement_noise(const std::vector<double>& time, const std::vector<double>& pressure);
+
 // Analyses a file (three streaming passes: levels and noise; events;
 // ripple, figures and oscillation piece by piece). Throws FieldTraceError
 // for a bad file or bad options (naming the option).

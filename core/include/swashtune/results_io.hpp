@@ -84,6 +84,9 @@ std::string bode_csv(const std::vector<BodePoint>& bode);
 
 // A recording's oscillation analysis (field --json) and a fit (fit --json).
 std::string fit_json(const FitResult& fit);
+// The recording and the fitted pressure at its samples (time_s, recorded_Pa,
+// fitted_Pa, residual_Pa), to plot one over the other.
+std::string fit_trace_csv(const FitResult& fit);
 
 // JSON helpers shared by the writers: finite numbers in the shortest form that reads back exactly,
 // non-finite ones as null; strings escaped.
