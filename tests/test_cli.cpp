@@ -260,6 +260,20 @@ TEST_F(Cli, FieldAndFitCommands) {
   ASSERT_EQ(fit.exit_code, 0) << fit.err;
   EXPECT_NE(fit.out.find("\"key\": \"faults.entrained_air\""), std::string::npos);
   EXPECT_NE(slurp(fitted).find("entrained_air"), std::string::npos);
+  EXPECT_NE(fit.out.find("\"verdict\": "), std::string::npos) << fit.out;
+  EXPECT_NE(fit.out.find("\"stop\": "), std::string::npos) << fit.out;
+  // The fitted pressure over the recording, and a plain verdict on another machine.
+  const fs::path over = dir_ / "fitted.csv";
+  const std::string fit_data = std::string(SWASHTUNE_SOURCE_DIR) + "/tests/data/fit/";
+  const Outcome other = cli("fit " + fit_data + "slam.toml --trace " + fit_data +
+                            "slam-other-machine.csv --free line.volume --starts 1 --fitted-trace " + over.string());
+  ASSERT_EQ(other.exit_code, 0) << other.err;
+  EXPECT_NE(other.out.find("verdict: the model does not fit this machine"), std::string::npos) << other.out;
+  EXPECT_NE(other.out.find("noise of the recording"), std::string::npos) << other.out;
+  const std::string over_csv = slurp(over);
+  EXPECT_EQ(over_csv.rfind("time_s,recorded_Pa,fitted_Pa,residual_Pa\n", 0), 0u);
+  EXPECT_EQ(std::count(over_csv.begin(), over_csv.end(), '\n'), 482);  // 481 samples inside the run
+  EXPECT_EQ(cli("fit " + demo + " --trace " + field + "log-turner-slam.csv --free line.volume --starts 0").exit_code, 2);
   EXPECT_EQ(cli("fit " + demo + " --trace " + field + "log-turner-slam.csv --free no.such").exit_code, 2);
 }
 

@@ -315,7 +315,7 @@ bool TroubleshootingPanel::startFit(const Scenario& study) {
   fit_table_->setRowCount(0);
   // Each iteration runs the study once per free parameter and once more; the
   // bar counts simulations against the most the search may take.
-  progress_->setRange(0, (options.max_iterations + 1) * (static_cast<int>(options.free_keys.size()) + 1));
+  progress_->setRange(0, options.starts * (options.max_iterations + 1) * (static_cast<int>(options.free_keys.size()) + 1));
   progress_->setValue(0);
   progress_->setFormat(tr("%v simulations"));
   progress_->setVisible(true);
@@ -387,6 +387,13 @@ void TroubleshootingPanel::showFitResult() {
     cannot_tell_->setText(tr("The recording tells every fitted parameter (standard errors in the table), over %1 "
                              "recorded samples.")
                               .arg(r.samples));
+  // Whether the model fits this machine at all, and whether the starts agree.
+  if (!r.cancelled) {
+    QString verdict = QString::fromStdString(r.verdict_text);
+    if (!verdict.isEmpty()) verdict[0] = verdict[0].toUpper();
+    cannot_tell_->setText(cannot_tell_->text() + "\n" + verdict + "." +
+                          (r.starts_note.empty() ? QString() : "\nStarts: " + QString::fromStdString(r.starts_note) + "."));
+  }
   message_->setText(tr("%1: rms residual %2 %3 (from %4 %3) after %5 simulations")
                         .arg(QString::fromStdString(r.message))
                         .arg(units_.pressure.to_display(r.rms), 0, 'g', 4)
