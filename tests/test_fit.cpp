@@ -1,19 +1,23 @@
 // Fitting parameters to a recorded trace: the model's own output, with known
 // parameters and added noise, must give those parameters back within the
 // stated uncertainty; a parameter the trace cannot see must be called so.
+// Then recordings made by the independent scipy reference
+// (tests/python/make_field_demos.py): the truth within the standard errors
+// and their coverage in a repeated-noise study, the verdict on a model
+// difference and on another machine, the criterion met, local minima.
 #include <gtest/gtest.h>
 
 #include <algorithm>
 #include <cmath>
-#include <map>
 #include <cstdio>
+#include <map>
 #include <random>
 
-#include "v1_pump.hpp"
 #include "swashtune/field_trace.hpp"
 #include "swashtune/fit.hpp"
 #include "swashtune/metrics.hpp"
 #include "swashtune/simulator.hpp"
+#include "v1_pump.hpp"
 
 using namespace swashtune;
 
@@ -204,10 +208,11 @@ CoverageFigures coverage_study(const std::vector<std::string>& keys, int starts,
     const double mean = sum[i] / repetitions;
     const double spread = std::sqrt(std::max(0.0, sum_squares[i] - repetitions * mean * mean) / (repetitions - 1));
     out.spread_to_error[i] = spread / (se_sum[i] / repetitions);
-    std::printf("coverage of %s at 95 %%: %d of %d (%.1f %%); spread of the estimates / standard error %.3f; "
-                "%d of %d converged; %d start(s)\n",
-                keys[i].c_str(), out.covered[i], repetitions, 100.0 * out.covered[i] / repetitions,
-                out.spread_to_error[i], out.converged, repetitions, starts);
+    std::printf(
+        "coverage of %s at 95 %%: %d of %d (%.1f %%); spread of the estimates / standard error %.3f; "
+        "%d of %d converged; %d start(s)\n",
+        keys[i].c_str(), out.covered[i], repetitions, 100.0 * out.covered[i] / repetitions, out.spread_to_error[i],
+        out.converged, repetitions, starts);
   }
   return out;
 }
@@ -269,7 +274,8 @@ TEST(FitReference, ReportsTheIterationLimitAsNotConverged) {
 // frequency) from 0.4 L, the search slips into a local minimum; a restart
 // finds the recording's 0.25 L, and the fit says the starts disagree.
 TEST(FitReference, RestartsFindTheMinimumAndReportLocalMinima) {
-  Scenario plant = load_scenario(std::string(SWASHTUNE_SOURCE_DIR) + "/scenarios/hunting-oversized-damping-orifice.toml");
+  Scenario plant =
+      load_scenario(std::string(SWASHTUNE_SOURCE_DIR) + "/scenarios/hunting-oversized-damping-orifice.toml");
   plant.settings.duration = 0.1;
   plant.parameters.line_volume = 0.4e-3;
   FitOptions options;

@@ -315,7 +315,8 @@ bool TroubleshootingPanel::startFit(const Scenario& study) {
   fit_table_->setRowCount(0);
   // Each iteration runs the study once per free parameter and once more; the
   // bar counts simulations against the most the search may take.
-  progress_->setRange(0, options.starts * (options.max_iterations + 1) * (static_cast<int>(options.free_keys.size()) + 1));
+  progress_->setRange(0,
+                      options.starts * (options.max_iterations + 1) * (static_cast<int>(options.free_keys.size()) + 1));
   progress_->setValue(0);
   progress_->setFormat(tr("%v simulations"));
   progress_->setVisible(true);
@@ -391,8 +392,9 @@ void TroubleshootingPanel::showFitResult() {
   if (!r.cancelled) {
     QString verdict = QString::fromStdString(r.verdict_text);
     if (!verdict.isEmpty()) verdict[0] = verdict[0].toUpper();
-    cannot_tell_->setText(cannot_tell_->text() + "\n" + verdict + "." +
-                          (r.starts_note.empty() ? QString() : "\nStarts: " + QString::fromStdString(r.starts_note) + "."));
+    cannot_tell_->setText(
+        cannot_tell_->text() + "\n" + verdict + "." +
+        (r.starts_note.empty() ? QString() : "\nStarts: " + QString::fromStdString(r.starts_note) + "."));
   }
   message_->setText(tr("%1: rms residual %2 %3 (from %4 %3) after %5 simulations")
                         .arg(QString::fromStdString(r.message))

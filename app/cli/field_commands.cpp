@@ -256,8 +256,10 @@ FieldCommands::FieldCommands(CLI::App& app) : o_(std::make_unique<Options>()) {
                    "Parameters to estimate, comma-separated, e.g. line.volume,fluid.air_fraction")
       ->required();
   o.fit->add_option("--out", o.fitted_path, "Also write the scenario with the fitted values to this file");
-  o.fit->add_option("--starts", o.starts, "Search from this many starts (the scenario's values and others spread "
-                                          "over each parameter's span); 1 searches once")
+  o.fit
+      ->add_option("--starts", o.starts,
+                   "Search from this many starts (the scenario's values and others spread "
+                   "over each parameter's span); 1 searches once")
       ->capture_default_str()
       ->check(CLI::Range(1, 50));
   o.fit->add_option("--fitted-trace", o.fitted_trace_path,

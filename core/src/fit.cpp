@@ -412,8 +412,8 @@ FitResult fit_to_trace(const Scenario& scenario, const FieldTrace& trace, const 
   FitStart& chosen = result.starts[static_cast<std::size_t>(best)];
   result.stop = chosen.stop;
   if (result.stop != FitStop::iteration_limit && result.remaining_step > kStalledStep) result.stop = FitStop::stalled;
-  result.converged = result.stop == FitStop::gradient || result.stop == FitStop::step ||
-                     result.stop == FitStop::cost_change;
+  result.converged =
+      result.stop == FitStop::gradient || result.stop == FitStop::step || result.stop == FitStop::cost_change;
   if (result.converged)
     result.message = "converged (" + chosen.criterion + ")";
   else if (result.stop == FitStop::stalled)
@@ -451,8 +451,7 @@ FitResult fit_to_trace(const Scenario& scenario, const FieldTrace& trace, const 
   if (result.starts.size() > 1)
     result.starts_note = result.starts_agree
                              ? "all " + std::to_string(result.starts.size()) + " starts ended in the same minimum"
-                             : "the starts disagree (local minima): " + disagree +
-                                   "; the lowest residual is reported";
+                             : "the starts disagree (local minima): " + disagree + "; the lowest residual is reported";
 
   // The verdict: the residual against the recording's own noise.
   if (result.noise > 0.0) {
@@ -481,7 +480,8 @@ FitResult fit_to_trace(const Scenario& scenario, const FieldTrace& trace, const 
   result.times = times;
   result.measured = measured;
   result.simulated.resize(times.size());
-  for (std::size_t i = 0; i < times.size(); ++i) result.simulated[i] = at_solution[static_cast<Eigen::Index>(i)] + measured[i];
+  for (std::size_t i = 0; i < times.size(); ++i)
+    result.simulated[i] = at_solution[static_cast<Eigen::Index>(i)] + measured[i];
   return result;
 }
 

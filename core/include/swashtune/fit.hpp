@@ -86,11 +86,11 @@ struct FitResult {
   double noise = 0.0;                 // Pa: the recording's noise (local-cubic pseudo-residuals, MAD)
   double residual_to_noise = 0.0;     // rms / noise
   FitVerdict verdict = FitVerdict::unknown;
-  std::string verdict_text;           // the verdict in plain words
-  std::vector<double> times;          // s: the recording's samples inside the run
-  std::vector<double> measured;       // Pa
-  std::vector<double> simulated;      // Pa: the fitted scenario's pressure at those times
-  Scenario fitted;                    // the scenario with the fitted values
+  std::string verdict_text;       // the verdict in plain words
+  std::vector<double> times;      // s: the recording's samples inside the run
+  std::vector<double> measured;   // Pa
+  std::vector<double> simulated;  // Pa: the fitted scenario's pressure at those times
+  Scenario fitted;                // the scenario with the fitted values
 };
 
 // Called after every simulation with its count and the rms residual so far;
