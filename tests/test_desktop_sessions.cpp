@@ -392,6 +392,7 @@ class SessionTest : public QObject {
     const QString data = dir.filePath("data");
     QProcessEnvironment env = QProcessEnvironment::systemEnvironment();
     env.insert("XDG_DATA_HOME", data);
+    env.insert("XDG_CONFIG_HOME", dir.filePath("config"));  // not the user's settings, nor other tests'
     env.insert("QT_QPA_PLATFORM", "offscreen");
     // Runs a save as a person's session would, killed after `kill_after_ms`
     // (never when negative); returns what it reported before it died.
@@ -462,8 +463,9 @@ class SessionTest : public QObject {
                                   "--save-as", target, "--repeat", "40"});
       QVERIFY(p.waitForStarted(10000));
       QByteArray said;
-      while (!said.contains("autosaved") && p.waitForReadyRead(20000)) said += p.readAllStandardOutput();
+      while (!said.contains("autosaved") && p.waitForReadyRead(60000)) said += p.readAllStandardOutput();
       p.kill();
+      QVERIFY2(said.contains("autosaved"), qPrintable("no autosave reported within 60 s; it said: " + said));
       p.waitForFinished(10000);
       said += p.readAllStandardOutput();
       if (read_file(target.toStdString()) == before) {  // the first save may have finished between our read and the kill

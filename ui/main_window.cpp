@@ -524,7 +524,11 @@ void MainWindow::setUnits(UnitSystem system) {
   editor_->setUnits(system);
   controls_->setUnits(system);
   troubleshooting_->setUnits(system);
-  QSettings().setValue("units", system == UnitSystem::us ? "us" : "metric");
+  // Written only when it changes: a write takes the settings file's lock,
+  // and an empty lock left by a killed instance stalls the next writer 30 s.
+  const QString unit_name = system == UnitSystem::us ? "us" : "metric";
+  QSettings settings;
+  if (settings.value("units").toString() != unit_name) settings.setValue("units", unit_name);
   if (QAction* a = findChild<QAction*>(system == UnitSystem::us ? "units-us" : "units-metric")) a->setChecked(true);
   refreshAnalysis(true);
 }
