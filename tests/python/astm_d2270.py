@@ -10,11 +10,9 @@ Procedure A (U >= H): VI = 100 (L - U) / (L - H).
 Procedure B (U < H): N = (log10 H - log10 U) / log10 Y,
 VI = (10^N - 1) / 0.00715 + 100.
 
-The Table 1 rows below are the standard's, as transcribed in the open-source
-`fluids` library (C. Bell, MIT licence, fluids/core.py: VI_nus, VI_Ls,
-VI_Hs).  test_reference_model.py checks the transcription against the L and
-H values ASTM D2270 itself gives for Y = 8.86 (L = 119.94, H = 69.48) and
-Y = 5.05 (H = 28.97).
+The rows below are ASTM D2270's Table 1.  A test checks the interpolation
+against the standard's own tabulated L and H at Y = 8.86 (L = 119.94,
+H = 69.48) and Y = 5.05 (H = 28.97).
 
 ASTM D341 (Walther): log10 log10(nu + 0.7) = A - B log10 T, T in kelvin.
 """

@@ -133,6 +133,13 @@ def write(path, lines):
     print("make_field_demos: wrote %s (%d lines)" % (os.path.relpath(path, ROOT), len(lines)))
 
 
+def write_bar_trace(path, comments, t, p):
+    """The fit tests' layout: comment lines, then seconds and bar (gauge)."""
+    lines = ["# " + c for c in comments] + ["time_s,pressure_bar"]
+    lines += ["%.6f,%.4f" % (ti, pi / BAR) for ti, pi in zip(t, p)]
+    write(path, lines)
+
+
 # ---------------------------------------------------------------------------
 # The demos
 
@@ -192,13 +199,11 @@ def fit_recordings(cli):
     cols, q_full, f_r = reference_run(cli, scenario, FIT_TRUTH, other_orifice_law=True)
     t, p = spoil(cols, q_full, f_r, seed=7, noise=0.5 * BAR, ripple_pp=2.0 * BAR, offset=0.0,
                  quantum=600 * BAR / 4096)
-    lines = ["# Made by tests/python/make_field_demos.py: the scipy reference of tests/data/fit/slam.toml",
-             "# with line.volume 1.5 L and compensator.spool_damping 12 N*s/m, the load valve's flow",
-             "# following dp^0.45 (matched at 5 bar), 2 bar p-p ripple at full delivery, 0.5 bar noise,",
-             "# 12-bit quantisation over 600 bar.",
-             "time_s,pressure_bar"]
-    lines += ["%.6f,%.4f" % (ti, pi / BAR) for ti, pi in zip(t, p)]
-    write(os.path.join(folder, "slam-other-orifice-law.csv"), lines)
+    write_bar_trace(os.path.join(folder, "slam-other-orifice-law.csv"),
+                    ["Made by tests/python/make_field_demos.py: the scipy reference of tests/data/fit/slam.toml",
+                     "with line.volume 1.5 L and compensator.spool_damping 12 N*s/m, the load valve's flow",
+                     "following dp^0.45 (matched at 5 bar), 2 bar p-p ripple at full delivery, 0.5 bar noise,",
+                     "12-bit quantisation over 600 bar."], t, p)
 
     # Another machine: a compensator set 30 bar higher and a far stiffer
     # bias spring, recorded as the same slam.
@@ -206,11 +211,9 @@ def fit_recordings(cli):
     other.update({"compensator.setting": 240e5, "bias_spring.rate": 60e3})
     cols, q_full, f_r = reference_run(cli, scenario, other)
     t, p = spoil(cols, q_full, f_r, seed=11, noise=0.5 * BAR, ripple_pp=0.0, offset=0.0, quantum=0.0)
-    lines = ["# Made by tests/python/make_field_demos.py: the scipy reference of tests/data/fit/slam.toml",
-             "# on another machine (compensator.setting 240 bar, bias_spring.rate 60 N/mm), 0.5 bar noise.",
-             "time_s,pressure_bar"]
-    lines += ["%.6f,%.4f" % (ti, pi / BAR) for ti, pi in zip(t, p)]
-    write(os.path.join(folder, "slam-other-machine.csv"), lines)
+    write_bar_trace(os.path.join(folder, "slam-other-machine.csv"),
+                    ["Made by tests/python/make_field_demos.py: the scipy reference of tests/data/fit/slam.toml",
+                     "on another machine (compensator.setting 240 bar, bias_spring.rate 60 N/mm), 0.5 bar noise."], t, p)
 
 
 def hunting_recording(cli):
@@ -220,11 +223,9 @@ def hunting_recording(cli):
     cols, q_full, f_r = reference_run(cli, "scenarios/hunting-oversized-damping-orifice.toml", duration=0.1,
                                       dt=0.1e-3)
     t, p = spoil(cols, q_full, f_r, seed=13, noise=0.05 * BAR, ripple_pp=0.0, offset=0.0, quantum=0.0)
-    lines = ["# Made by tests/python/make_field_demos.py: the scipy reference of",
-             "# scenarios/hunting-oversized-damping-orifice.toml (line.volume 0.25 L), 0 to 0.1 s, 0.05 bar noise.",
-             "time_s,pressure_bar"]
-    lines += ["%.6f,%.4f" % (ti, pi / BAR) for ti, pi in zip(t, p)]
-    write(os.path.join(ROOT, "tests/data/fit/hunting-reference.csv"), lines)
+    write_bar_trace(os.path.join(ROOT, "tests/data/fit/hunting-reference.csv"),
+                    ["Made by tests/python/make_field_demos.py: the scipy reference of",
+                     "scenarios/hunting-oversized-damping-orifice.toml (line.volume 0.25 L), 0 to 0.1 s, 0.05 bar noise."], t, p)
 
 
 def main(argv=None):
