@@ -439,6 +439,7 @@ class DesktopTest : public QObject {
     QCOMPARE(t->checkedFreeKeys(), QStringList({"faults.entrained_air"}));
 
     QSignalSpy finished(t, &TroubleshootingPanel::fitFinished);
+    const int overlays = w.traces()->overlayCount();  // the recording's
     QTest::mouseClick(t->fitButton(), Qt::LeftButton);
     QVERIFY(t->fitRunning());
     QVERIFY(t->findChild<QProgressBar*>("fit-progress")->isVisible());
@@ -448,9 +449,13 @@ class DesktopTest : public QObject {
     QVERIFY(t->fitResult() && t->fitResult()->cancelled);
     QVERIFY(t->cannotTellText().contains("Cancelled"));
     QVERIFY(!t->applyButton()->isEnabled());
+    QCOMPARE(w.traces()->overlayCount(), overlays);  // a cancelled fit draws no trace
 
     QTest::mouseClick(t->fitButton(), Qt::LeftButton);
     QVERIFY(finished.wait(120000));
+    QCOMPARE(w.traces()->overlayCount(), overlays + 1);  // the fitted trace over the recording
+    QVERIFY2(w.traces()->legendNames().last().startsWith("fitted (systematic differences remain)"),
+             qPrintable(w.traces()->legendNames().join(" | ")));
     QVERIFY(t->fitResult() && t->fitResult()->converged);
     const FittedParameter& air = t->fitResult()->parameters.front();
     // The recording was made (scenarios/field) with 3 % air: the fit must find it.

@@ -258,6 +258,14 @@ MainWindow::MainWindow(Options options, QWidget* parent)
     compare_->setRecordingAvailable(true);
     compareWithRecording();
   });
+  connect(troubleshooting_, &TroubleshootingPanel::fitFinished, this, [this] {
+    // The fitted scenario's pressure over the recording, so the eye judges
+    // the match and where it fails; a cancelled fit draws nothing.
+    const std::optional<FitResult>& f = troubleshooting_->fitResult();
+    if (!f || f->cancelled || f->simulated.empty()) return;
+    traces_->addMeasuredOverlay(tr("fitted (%1)").arg(QString::fromUtf8(to_string(f->verdict))), f->times,
+                                {{"discharge_pressure", f->simulated}});
+  });
   connect(troubleshooting_, &TroubleshootingPanel::fitRequested, this,
           [this] { troubleshooting_->startFit(presentDesign()); });
   connect(troubleshooting_, &TroubleshootingPanel::applyFitRequested, this, [this](const Scenario& fitted) {
