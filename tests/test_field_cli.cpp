@@ -170,6 +170,30 @@ TEST_F(FieldCli, MessagesNameTheOptionThatFixesThem) {
   EXPECT_EQ(cli({"field", no_unit, "--pressure-unit", "PSI"}).exit_code, 0);
 }
 
+// fit --target: data-sheet figures instead of a recording (issue 13, item 5).
+TEST_F(FieldCli, FitToDataSheetFiguresPrintsWhatItMetAndWhatIsLeftOpen) {
+  const std::string scenario = std::string(SWASHTUNE_SOURCE_DIR) + "/scenarios/valve-slam.toml";
+  Outcome o = cli({"fit", scenario, "--target", "droop=2.5%", "--free",
+                   "compensator.control_orifice,compensator.spring_rate", "--starts", "1"});
+  EXPECT_EQ(o.exit_code, 0) << o.err;
+  EXPECT_NE(o.out.find("droop        2.50 % +- 0.25 %"), std::string::npos) << o.out;
+  EXPECT_NE(o.out.find("left open: 1 figure cannot determine 2 parameters"), std::string::npos) << o.out;
+  EXPECT_NE(o.out.find("Caution:"), std::string::npos);
+  const std::string trace = write("t.csv", "t [s],p [bar]\n0,1\n1,2\n").string();
+  o = cli({"fit", scenario, "--target", "droop=3%", "--trace", trace, "--free", "compensator.spring_rate"});
+  EXPECT_EQ(o.exit_code, 2);
+  EXPECT_NE(o.err.find("either --trace (a recording) or --target"), std::string::npos) << o.err;
+  o = cli({"fit", scenario, "--free", "compensator.spring_rate"});
+  EXPECT_EQ(o.exit_code, 2);
+  EXPECT_NE(o.err.find("give --trace RECORDING.csv, or --target FIGURES"), std::string::npos) << o.err;
+  o = cli({"fit", scenario, "--target", "droop=3", "--free", "compensator.spring_rate"});
+  EXPECT_EQ(o.exit_code, 2);
+  EXPECT_NE(o.err.find("--target droop=3: \"3\" has no unit"), std::string::npos) << o.err;
+  o = cli({"fit", scenario, "--target", "droop=3%", "--free", "entrained_air"});
+  EXPECT_EQ(o.exit_code, 2);
+  EXPECT_NE(o.err.find("did you mean \"faults.entrained_air\"?"), std::string::npos) << o.err;
+}
+
 // A time of day in --from and --to, against the recording's stamps.
 TEST_F(FieldCli, ClockTimesChooseThePart) {
   std::string text = "Time;p [bar]\n";

@@ -12,6 +12,7 @@
 
 #include "shown_units.hpp"
 #include "swashtune/atomic_file.hpp"
+#include "swashtune/datasheet.hpp"
 #include "swashtune/field_analysis.hpp"
 #include "swashtune/field_trace.hpp"
 #include "swashtune/fit.hpp"
@@ -223,7 +224,7 @@ struct FieldCommands::Options {
   TraceFlags trace;
   std::string trace_path, scenario_path, free_keys, fitted_path, fitted_trace_path;
   int starts = FitOptions{}.starts;
-  std::optional<std::string> from, to, event_threshold, speed;
+  std::optional<std::string> from, to, event_threshold, speed, targets, valve_time;
   std::optional<double> pistons;
   bool json = false;
   std::string units = "metric";
@@ -245,12 +246,21 @@ FieldCommands::FieldCommands(CLI::App& app) : o_(std::make_unique<Options>()) {
   o.field->add_option("--units", o.units, "Units of the report: si, metric or us")->capture_default_str();
   add_trace_flags(o.field, o.trace);
 
-  o.fit = app.add_subcommand("fit", "Estimate parameters so the simulated pressure reproduces a recorded trace");
+  o.fit = app.add_subcommand("fit",
+                             "Estimate parameters so the simulated pressure reproduces a recorded trace, or so "
+                             "the pump meets the figures of its data sheet (--target)");
   o.fit
       ->add_option("SCENARIO", o.scenario_path,
                    "Scenario that reproduces the recording's events (its time is the trace's)")
       ->required();
-  o.fit->add_option("--trace", o.trace_path, "Recorded trace (CSV)")->required();
+  o.fit->add_option("--trace", o.trace_path, "Recorded trace (CSV)");
+  o.fit->add_option("--target", o.targets,
+                    "Instead of a trace: data-sheet figures to meet, e.g. "
+                    "off_stroke=35ms,on_stroke=90ms,droop=3% (also deadhead, cut_in, peak; FIGURE=VALUE+-TOL "
+                    "gives a tolerance, else 10 % for times and droop, 1 % for pressures)");
+  o.fit->add_option("--valve-time", o.valve_time,
+                    "With --target: the load valve closes and reopens in this time in the data-sheet test "
+                    "(default 5ms); match the data sheet's test conditions");
   o.fit
       ->add_option("--free", o.free_keys,
                    "Parameters to estimate, comma-separated, e.g. line.volume,fluid.air_fraction")
@@ -353,6 +363,59 @@ int fit_command(const std::string& scenario_path, const std::string& trace_path,
   return 0;
 }
 
+int datasheet_fit_command(const std::string& scenario_path, const std::string& targets,
+                          const std::optional<std::string>& valve_time, const std::string& free, bool json,
+                          const std::string& out_path, int starts, UnitSystem units) {
+  const Scenario scenario = load_study(scenario_path);
+  DataSheetFitOptions options;
+  options.targets = parse_targets(targets, "--target");
+  options.free_keys = split_list(free);
+  options.starts = starts;
+  if (valve_time) options.test.valve_time = quantity(*valve_time, "--valve-time", dim::time, "5ms");
+  const bool terminal = ::isatty(::fileno(stderr)) != 0;
+  const DataSheetFitResult fit = fit_to_datasheet(scenario, options, [terminal](int tests, double miss) {
+    if (terminal) std::fprintf(stderr, "\rfit: %d data-sheet tests, rms miss %.3g tolerances   ", tests, miss);
+    return true;
+  });
+  if (terminal) std::fprintf(stderr, "\n");
+  if (!out_path.empty()) write_file_atomically(out_path, scenario_to_toml(fit.fitted));
+  if (json) {
+    std::cout << datasheet_fit_json(fit);
+    return 0;
+  }
+  std::printf("fit of %s to data-sheet figures (%d tests, valve %.3g ms): %s\n", scenario_path.c_str(),
+              fit.simulations, 1e3 * fit.test.valve_time, fit.message.c_str());
+  for (const FittedParameter& p : fit.parameters) {
+    const ShownUnit u = parameter_unit(*find_parameter(p.key), units);
+    std::printf("  %-32s %s -> %s +- %s%s%s\n", p.key.c_str(), u.format(p.initial).c_str(), u.format(p.value).c_str(),
+                u.format(p.standard_error, 2).c_str(), p.note.empty() ? "" : "  (",
+                p.note.empty() ? "" : (p.note + ")").c_str());
+  }
+  const auto shown = [&](Figure f, const std::optional<double>& v) -> std::string {
+    if (!v) return "not reached";
+    char text[64];
+    if (f == Figure::off_stroke || f == Figure::on_stroke)
+      std::snprintf(text, sizeof text, "%.1f ms", 1e3 * *v);
+    else if (f == Figure::droop)
+      std::snprintf(text, sizeof text, "%.2f %%", 100.0 * *v);
+    else
+      return bar(*v);
+    return text;
+  };
+  std::printf("  %-12s %-22s %-14s %-14s %s\n", "figure", "target +- tolerance", "at the start", "fitted", "");
+  for (const FigureResult& r : fit.figures) {
+    const Figure f = r.target.figure;
+    const std::string target = shown(f, r.target.value) + " +- " + shown(f, r.target.tolerance);
+    std::printf("  %-12s %-22s %-14s %-14s %s\n", key_of(f), target.c_str(), shown(f, r.initial).c_str(),
+                shown(f, r.achieved).c_str(), r.met ? "met" : "NOT MET");
+  }
+  for (const std::string& u : fit.undetermined) std::printf("left open: %s\n", u.c_str());
+  if (!fit.starts_note.empty()) std::printf("starts: %s\n", fit.starts_note.c_str());
+  if (!fit.cancelled) std::printf("verdict: %s\n", fit.verdict_text.c_str());
+  std::printf("%s\n", safety_notice_short);
+  return 0;
+}
+
 }  // namespace
 
 int FieldCommands::run() {
@@ -362,6 +425,18 @@ int FieldCommands::run() {
   if (o.field->parsed())
     return field_command(*this, o.trace_path, o.trace, o.from, o.to, o.event_threshold, o.scenario_path, o.pistons,
                          o.speed, o.json);
+  if (o.targets && !o.trace_path.empty())
+    throw FieldTraceError("fit: give either --trace (a recording) or --target (data-sheet figures), not both");
+  if (!o.targets && o.trace_path.empty())
+    throw FieldTraceError("fit: give --trace RECORDING.csv, or --target FIGURES for data-sheet figures "
+                          "(e.g. --target off_stroke=35ms,on_stroke=90ms,droop=3%)");
+  if (o.valve_time && !o.targets) throw FieldTraceError("fit: --valve-time belongs to a data-sheet fit (--target)");
+  if (o.targets) {
+    if (!o.fitted_trace_path.empty())
+      throw FieldTraceError("fit: --fitted-trace needs a recording (--trace); a data-sheet fit has none");
+    return datasheet_fit_command(o.scenario_path, *o.targets, o.valve_time, o.free_keys, o.json, o.fitted_path,
+                                 o.starts, units);
+  }
   return fit_command(o.scenario_path, o.trace_path, o.trace, o.free_keys, o.json, o.fitted_path, o.fitted_trace_path,
                      o.starts, units);
 }

@@ -10,47 +10,16 @@
 #include "swashtune/field_analysis.hpp"
 #include "swashtune/metrics.hpp"
 #include "swashtune/simulator.hpp"
+#include "fit_search.hpp"
 
 namespace swashtune {
 namespace {
 
-// The search works in theta: log(v / v0) for a positive parameter whose
-// range cannot reach zero from it, (v - v0) / scale otherwise, so that every
-// free parameter moves on a comparable scale whatever its unit.
-struct FreeParameter {
-  const ParameterSpec* spec;
-  double initial;
-  bool logarithmic;
-  double scale;
-
-  double value(double theta) const {
-    const double v = logarithmic ? initial * std::exp(theta) : initial + scale * theta;
-    return std::clamp(v, spec->range.min, spec->range.max);
-  }
-  // dv/dtheta at theta, for carrying standard errors back to the parameter.
-  double slope(double theta) const { return logarithmic ? value(theta) : scale; }
-  double theta_of(double v) const { return logarithmic ? std::log(v / initial) : (v - initial) / scale; }
-
-  // The value at fraction f of the span the restarts are spread over: a
-  // factor of ten either way for a logarithmic parameter, else the initial
-  // value +- the larger of its size and a tenth of its valid range; both
-  // inside the valid range.
-  double start_at(double f) const {
-    const double lo_limit = spec->range.min, hi_limit = spec->range.max;
-    if (logarithmic) {
-      const double lo = std::max(initial / 10.0, lo_limit > 0.0 ? lo_limit : initial / 10.0);
-      const double hi = std::min(initial * 10.0, hi_limit);
-      return lo * std::pow(hi / lo, f);
-    }
-    double reach = std::abs(initial);
-    if (std::isfinite(hi_limit - lo_limit)) reach = std::max(reach, 0.1 * (hi_limit - lo_limit));
-    if (reach <= 0.0) reach = scale;
-    const double lo = std::max(lo_limit, initial - reach), hi = std::min(hi_limit, initial + reach);
-    return lo + f * (hi - lo);
-  }
-};
-
-struct Cancelled {};
+using fitting::Cancelled;
+using fitting::criterion_of;
+using fitting::FreeParameter;
+using fitting::number;
+using fitting::stop_of;
 
 // Pa rms of pressure change for a 100 % change of a parameter (a unit step
 // of theta) below which the trace says nothing about it.
@@ -132,64 +101,6 @@ class TraceResiduals : public Eigen::DenseFunctor<double> {
   InputType overall_theta_;
 };
 
-// MINPACK's stopping tests as Eigen reports them (Eigen's
-// LevenbergMarquardt is a port of MINPACK's lmder; More, Garbow & Hillstrom,
-// User Guide for MINPACK-1, 1980, section 2.3).
-FitStop stop_of(Eigen::LevenbergMarquardtSpace::Status status) {
-  using namespace Eigen::LevenbergMarquardtSpace;
-  switch (status) {
-    case RelativeReductionTooSmall:
-    case RelativeErrorAndReductionTooSmall:  // both; the cost is the stronger statement
-    case FtolTooSmall:
-      return FitStop::cost_change;
-    case RelativeErrorTooSmall:
-    case XtolTooSmall:
-      return FitStop::step;
-    case CosinusTooSmall:
-    case GtolTooSmall:
-      return FitStop::gradient;
-    default:
-      return FitStop::iteration_limit;
-  }
-}
-
-std::string criterion_of(Eigen::LevenbergMarquardtSpace::Status status, double ftol, double xtol, int simulations) {
-  using namespace Eigen::LevenbergMarquardtSpace;
-  std::ostringstream o;
-  switch (status) {
-    case RelativeReductionTooSmall:
-      o << "cost change: the sum of squares fell by less than " << ftol << " relative, as predicted";
-      break;
-    case RelativeErrorAndReductionTooSmall:
-      o << "cost change and step: the sum of squares fell by less than " << ftol << " relative and the step was below "
-        << xtol << " of the parameters";
-      break;
-    case FtolTooSmall:
-      o << "cost change: no further reduction of the sum of squares is possible at machine precision";
-      break;
-    case RelativeErrorTooSmall:
-      o << "step: the last step changed the parameters by less than " << xtol << " relative";
-      break;
-    case XtolTooSmall:
-      o << "step: no further change of the parameters is possible at machine precision";
-      break;
-    case CosinusTooSmall:
-    case GtolTooSmall:
-      o << "gradient: the residual is orthogonal to every column of the Jacobian";
-      break;
-    default:
-      o << "iteration limit: " << simulations << " simulations without meeting a criterion";
-  }
-  return o.str();
-}
-
-std::string number(double v, int digits = 3) {
-  std::ostringstream o;
-  o.precision(digits);
-  o << v;
-  return o.str();
-}
-
 }  // namespace
 
 const char* to_string(FitStop s) {
@@ -234,17 +145,7 @@ FitResult fit_to_trace(const Scenario& scenario, const FieldTrace& trace, const 
                        const FitProgress& progress) {
   if (options.free_keys.empty()) throw ScenarioError("fit: name at least one parameter to estimate");
   if (options.starts < 1) throw ScenarioError("fit: the number of starts must be at least 1");
-  std::vector<FreeParameter> free;
-  for (const std::string& key : options.free_keys) {
-    const ParameterSpec* spec = find_parameter(key);
-    if (!spec || spec->is_flag()) throw ScenarioError("fit: \"" + key + "\" is not a numeric model parameter");
-    for (const FreeParameter& f : free)
-      if (f.spec == spec) throw ScenarioError("fit: \"" + key + "\" is named twice");
-    const double v0 = spec->get(scenario.parameters);
-    const bool logarithmic = v0 > 0.0 && spec->range.min >= 0.0;
-    const double scale = std::max({std::abs(v0), 1e-3 * (spec->range.max - spec->range.min), 1e-12});
-    free.push_back(FreeParameter{spec, v0, logarithmic, scale});
-  }
+  const std::vector<FreeParameter> free = fitting::free_parameters(options.free_keys, scenario.parameters, "fit");
   std::vector<double> times, measured;
   for (std::size_t i = 0; i < trace.time.size(); ++i)
     if (trace.time[i] >= 0.0 && trace.time[i] <= scenario.settings.duration) {
@@ -269,19 +170,7 @@ FitResult fit_to_trace(const Scenario& scenario, const FieldTrace& trace, const 
   const int n = static_cast<int>(free.size());
   const double ftol = 1e-10, xtol = 1e-8;
 
-  // The given start, then the others: parameter i of start k at fraction
-  // ((k - 1 + i) mod (starts - 1) + 0.5) / (starts - 1) of its start span,
-  // so that no two parameters move together.
-  std::vector<Eigen::VectorXd> start_points{Eigen::VectorXd::Zero(n)};
-  for (int k = 1; k < options.starts; ++k) {
-    Eigen::VectorXd theta(n);
-    for (int i = 0; i < n; ++i) {
-      const int others = options.starts - 1;
-      const double f = (((k - 1 + i) % others) + 0.5) / others;
-      theta[i] = free[i].theta_of(free[i].start_at(f));
-    }
-    start_points.push_back(theta);
-  }
+  const std::vector<Eigen::VectorXd> start_points = fitting::start_points(free, options.starts);
   Eigen::LevenbergMarquardtSpace::Status status{};
   // One Levenberg-Marquardt search from theta; the best point it met is kept.
   const auto search = [&](Eigen::VectorXd theta) {

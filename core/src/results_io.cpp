@@ -439,4 +439,41 @@ std::string fit_trace_csv(const FitResult& fit) {
   return o.str();
 }
 
+std::string datasheet_fit_json(const DataSheetFitResult& fit) {
+  std::ostringstream o;
+  const auto optional = [](const std::optional<double>& v) { return v ? json_number(*v) : std::string("null"); };
+  o << "{\n  \"parameters\": [";
+  for (std::size_t i = 0; i < fit.parameters.size(); ++i) {
+    const FittedParameter& p = fit.parameters[i];
+    o << (i ? ",\n    " : "\n    ") << "{ \"key\": " << json_string(p.key)
+      << ", \"initial\": " << json_number(p.initial) << ", \"fitted\": " << json_number(p.value)
+      << ", \"standard_error\": " << json_number(p.standard_error)
+      << ", \"identifiable\": " << (p.identifiable ? "true" : "false") << ", \"note\": " << json_string(p.note) << " }";
+  }
+  o << "\n  ],\n  \"figures\": [";
+  for (std::size_t i = 0; i < fit.figures.size(); ++i) {
+    const FigureResult& f = fit.figures[i];
+    o << (i ? ",\n    " : "\n    ") << "{ \"figure\": " << json_string(key_of(f.target.figure))
+      << ", \"unit\": " << json_string(unit_of(f.target.figure)) << ", \"target\": " << json_number(f.target.value)
+      << ", \"tolerance\": " << json_number(f.target.tolerance)
+      << ", \"tolerance_given\": " << (f.target.tolerance_given ? "true" : "false")
+      << ", \"initial\": " << optional(f.initial) << ", \"achieved\": " << optional(f.achieved)
+      << ", \"miss_in_tolerances\": " << json_number(f.normalised_miss) << ", \"met\": " << (f.met ? "true" : "false")
+      << " }";
+  }
+  o << "\n  ],\n  \"test\": { \"valve_time_s\": " << json_number(fit.test.valve_time)
+    << ", \"closing_at_s\": " << json_number(fit.test.closing_at) << ", \"hold_s\": " << json_number(fit.test.hold)
+    << ", \"recover_s\": " << json_number(fit.test.recover) << " }";
+  o << ",\n  \"simulations\": " << fit.simulations << ",\n  \"converged\": " << (fit.converged ? "true" : "false")
+    << ",\n  \"stop\": " << json_string(to_string(fit.stop)) << ",\n  \"message\": " << json_string(fit.message)
+    << ",\n  \"all_met\": " << (fit.all_met ? "true" : "false") << ",\n  \"undetermined\": [";
+  for (std::size_t i = 0; i < fit.undetermined.size(); ++i) o << (i ? ", " : "") << json_string(fit.undetermined[i]);
+  o << "],\n  \"chi_square\": " << optional(fit.chi_square) << ",\n  \"degrees_of_freedom\": "
+    << fit.degrees_of_freedom << ",\n  \"consistent\": " << (fit.consistent ? "true" : "false")
+    << ",\n  \"starts_agree\": " << (fit.starts_agree ? "true" : "false")
+    << ",\n  \"starts_note\": " << json_string(fit.starts_note)
+    << ",\n  \"verdict_text\": " << json_string(fit.verdict_text) << "\n}\n";
+  return o.str();
+}
+
 }  // namespace swashtune

@@ -9,6 +9,7 @@
 
 #include "swashtune/analysis.hpp"
 #include "swashtune/field_trace.hpp"
+#include "swashtune/datasheet.hpp"
 #include "swashtune/fit.hpp"
 #include "swashtune/metrics.hpp"
 #include "swashtune/simulator.hpp"
@@ -87,6 +88,9 @@ std::string fit_json(const FitResult& fit);
 // The recording and the fitted pressure at its samples (time_s, recorded_Pa,
 // fitted_Pa, residual_Pa), to plot one over the other.
 std::string fit_trace_csv(const FitResult& fit);
+// A fit to data-sheet figures (fit --target --json), SI; each figure in its
+// stored unit (s, Pa, droop as a fraction of the setting).
+std::string datasheet_fit_json(const DataSheetFitResult& fit);
 
 // JSON helpers shared by the writers: finite numbers in the shortest form that reads back exactly,
 // non-finite ones as null; strings escaped.
