@@ -547,7 +547,9 @@ DataSheetFitResult fit_to_datasheet(const Scenario& scenario, const DataSheetFit
     }
   // The combinations the figures cannot see, as relative changes of the
   // parameters (the largest part first), when more than one parameter takes part.
-  for (const auto& [direction, singular] : weak) {
+  for (const auto& weak_direction : weak) {
+    const Eigen::VectorXd& direction = weak_direction.first;
+    const double singular = weak_direction.second;
     std::vector<int> order(n);
     for (int i = 0; i < n; ++i) order[i] = i;
     std::sort(order.begin(), order.end(), [&](int a, int b) { return std::abs(direction[a]) > std::abs(direction[b]); });
