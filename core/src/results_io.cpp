@@ -389,16 +389,23 @@ std::string bode_csv(const std::vector<BodePoint>& bode) {
   return out;
 }
 
-std::string fit_json(const FitResult& fit) {
-  std::ostringstream o;
-  o << "{\n  \"parameters\": [";
-  for (std::size_t i = 0; i < fit.parameters.size(); ++i) {
-    const FittedParameter& p = fit.parameters[i];
+// The "parameters" array both fits' JSON share: key, initial and fitted
+// value, standard error, whether identifiable, and the note.
+static void write_fitted_parameters(std::ostringstream& o, const std::vector<FittedParameter>& parameters) {
+  o << "[";
+  for (std::size_t i = 0; i < parameters.size(); ++i) {
+    const FittedParameter& p = parameters[i];
     o << (i ? ",\n    " : "\n    ") << "{ \"key\": " << json_string(p.key)
       << ", \"initial\": " << json_number(p.initial) << ", \"fitted\": " << json_number(p.value)
       << ", \"standard_error\": " << json_number(p.standard_error)
       << ", \"identifiable\": " << (p.identifiable ? "true" : "false") << ", \"note\": " << json_string(p.note) << " }";
   }
+}
+
+std::string fit_json(const FitResult& fit) {
+  std::ostringstream o;
+  o << "{\n  \"parameters\": ";
+  write_fitted_parameters(o, fit.parameters);
   o << "\n  ],\n  \"initial_rms_residual_Pa\": " << json_number(fit.initial_rms)
     << ",\n  \"rms_residual_Pa\": " << json_number(fit.rms) << ",\n  \"samples\": " << fit.samples
     << ",\n  \"simulations\": " << fit.simulations << ",\n  \"converged\": " << (fit.converged ? "true" : "false")
@@ -442,14 +449,8 @@ std::string fit_trace_csv(const FitResult& fit) {
 std::string datasheet_fit_json(const DataSheetFitResult& fit) {
   std::ostringstream o;
   const auto optional = [](const std::optional<double>& v) { return v ? json_number(*v) : std::string("null"); };
-  o << "{\n  \"parameters\": [";
-  for (std::size_t i = 0; i < fit.parameters.size(); ++i) {
-    const FittedParameter& p = fit.parameters[i];
-    o << (i ? ",\n    " : "\n    ") << "{ \"key\": " << json_string(p.key)
-      << ", \"initial\": " << json_number(p.initial) << ", \"fitted\": " << json_number(p.value)
-      << ", \"standard_error\": " << json_number(p.standard_error)
-      << ", \"identifiable\": " << (p.identifiable ? "true" : "false") << ", \"note\": " << json_string(p.note) << " }";
-  }
+  o << "{\n  \"parameters\": ";
+  write_fitted_parameters(o, fit.parameters);
   o << "\n  ],\n  \"figures\": [";
   for (std::size_t i = 0; i < fit.figures.size(); ++i) {
     const FigureResult& f = fit.figures[i];
