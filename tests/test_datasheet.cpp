@@ -3,6 +3,8 @@
 #include <gtest/gtest.h>
 
 #include <cmath>
+#include <fstream>
+#include <map>
 
 #include "swashtune/datasheet.hpp"
 #include "swashtune/parameters.hpp"
@@ -144,4 +146,84 @@ TEST(DataSheetFit, RefusesATestThatDoesNotStartAtFullFlow) {
   } catch (const ScenarioError& e) {
     EXPECT_TRUE(contains(e.what(), "it needs full flow: open load.opening further")) << e.what();
   }
+}
+
+// ---- figures made by the independent scipy reference -----------------------
+// (tests/python/make_datasheet_figures.py runs the test of datasheet.hpp, from
+// its description, on tests/python/reference_model.py; an invented plant)
+
+namespace {
+
+struct ReferenceFigures {
+  std::vector<std::pair<std::string, double>> settings;  // registry key, SI value
+  std::map<std::string, double> figures;                 // "off_stroke_s" -> value
+};
+
+ReferenceFigures read_reference(const std::string& path) {
+  ReferenceFigures r;
+  std::ifstream in(path);
+  std::string line;
+  while (std::getline(in, line)) {
+    if (line.empty() || line[0] == '#' || line.rfind("kind,", 0) == 0) continue;
+    const auto a = line.find(','), b = line.rfind(',');
+    const std::string kind = line.substr(0, a), name = line.substr(a + 1, b - a - 1);
+    const double value = std::stod(line.substr(b + 1));
+    if (kind == "set")
+      r.settings.emplace_back(name, value);
+    else
+      r.figures[name] = value;
+  }
+  return r;
+}
+
+Scenario reference_plant(const ReferenceFigures& ref) {
+  Scenario s = load_scenario(demos + "valve-slam.toml");
+  for (const auto& [key, value] : ref.settings) find_parameter(key)->set(s.parameters, value);
+  return s;
+}
+
+const std::string reference_file = std::string(SWASHTUNE_SOURCE_DIR) + "/tests/data/fit/datasheet-truth.csv";
+
+}  // namespace
+
+TEST(DataSheetReference, FiguresAgreeWithTheScipyReference) {
+  const ReferenceFigures ref = read_reference(reference_file);
+  ASSERT_EQ(ref.figures.size(), 6u) << reference_file;
+  const DataSheetFigures f = datasheet_figures(reference_plant(ref));
+  ASSERT_TRUE(f.off_stroke && f.on_stroke && f.cut_in && f.droop);
+  const double off = *f.off_stroke - ref.figures.at("off_stroke_s"), on = *f.on_stroke - ref.figures.at("on_stroke_s");
+  const double peak = f.peak - ref.figures.at("peak_Pa"), dead = f.deadhead - ref.figures.at("deadhead_Pa");
+  const double cut = *f.cut_in - ref.figures.at("cut_in_Pa"), droop = *f.droop - ref.figures.at("droop");
+  std::printf("against scipy: off-stroke %+.2e s, on-stroke %+.2e s, peak %+.1f Pa, deadhead %+.1f Pa, "
+              "cut-in %+.1f Pa, droop %+.2e\n",
+              off, on, peak, dead, cut, droop);
+  // Achieved: 2e-8 s, 0.1 Pa, 0.0 Pa, 0.0 Pa and 2e-11 (both integrate at
+  // tight tolerances; the steady figures are exact equilibria of one model).
+  EXPECT_LT(std::abs(off), 2e-7);
+  EXPECT_LT(std::abs(on), 2e-7);
+  EXPECT_LT(std::abs(peak), 5.0);
+  EXPECT_LT(std::abs(dead), 1.0);
+  EXPECT_LT(std::abs(cut), 10.0);
+  EXPECT_LT(std::abs(droop), 1e-6);
+}
+
+// From the default pump (orifice 1.5 mm, preload 300 N) the fit finds the
+// plant behind the reference's figures: off-stroke time and droop, at a
+// stopwatch's and a test gauge's tolerance.
+TEST(DataSheetReference, FitToTheReferenceFiguresFindsThePlant) {
+  const ReferenceFigures ref = read_reference(reference_file);
+  DataSheetFitOptions options;
+  options.free_keys = {"compensator.control_orifice", "bias_spring.force_at_full_stroke"};
+  options.targets = parse_targets(
+      "off_stroke=" + std::to_string(1e3 * ref.figures.at("off_stroke_s")) + "ms+-0.5ms,droop=" +
+      std::to_string(100 * ref.figures.at("droop")) + "%+-0.02%");
+  options.starts = 1;
+  const DataSheetFitResult r = fit_to_datasheet(load_scenario(demos + "valve-slam.toml"), options);
+  std::printf("fit to scipy's figures: orifice %.6f +- %.4f mm, preload %.4f +- %.2f N, %d tests\n",
+              1e3 * r.parameters[0].value, 1e3 * r.parameters[0].standard_error, r.parameters[1].value,
+              r.parameters[1].standard_error, r.simulations);
+  EXPECT_TRUE(r.converged) << r.message;
+  EXPECT_TRUE(r.all_met) << r.verdict_text;
+  EXPECT_NEAR(r.parameters[0].value, 2.0e-3, 2e-6);
+  EXPECT_NEAR(r.parameters[1].value, 200.0, 0.5);
 }
