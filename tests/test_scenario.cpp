@@ -382,11 +382,17 @@ Scenario unusual_scenario() {
       spec.set(s.parameters, spec.default_value != 0.0 ? 0.0 : 1.0);
       continue;
     }
+    if (spec.is_choice()) {  // the first word that is not the default
+      spec.set(s.parameters, spec.choices[0].value != spec.default_value ? spec.choices[0].value : spec.choices[1].value);
+      continue;
+    }
     // A point inside the range that is no short decimal.
     const double lo = spec.range.min, hi = spec.range.max;
     spec.set(s.parameters, lo + (hi - lo) * (1.0 / 3.0));
   }
   s.parameters.underlap = s.parameters.spool_travel / 7.0;  // must stay inside the travel
+  s.parameters.line_volume = default_parameters().line_volume;  // the line is given by its geometry
+  s.parameters.line_reaches = 5;                                // a whole number
   for (const SettingSpec& spec : setting_registry()) {
     const double lo = spec.range.min, hi = spec.range.max;
     spec.set(s.settings, lo + (hi - lo) * (1.0 / 7.0));

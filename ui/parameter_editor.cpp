@@ -157,6 +157,9 @@ struct ParameterEditor::Impl {
   // A value as the table shows it: "180 bar", "on", "0.7".
   QString shown(const ParameterSpec& spec, double stored) const {
     if (spec.is_flag() && (stored == 0.0 || stored == 1.0)) return flag_text(stored != 0.0);
+    if (spec.is_choice())
+      if (const auto word = spec.word_for(stored))
+        return QString::fromUtf8(word->data(), static_cast<int>(word->size()));
     const DisplayQuantity d = display(spec);
     const QString number = format_number(d.to_display(stored));
     return d.unit.isEmpty() ? number : number + QLatin1Char(' ') + d.unit;
@@ -467,6 +470,14 @@ bool ParameterEditor::editText(const QString& key, const QString& text) {
   if (spec->is_flag()) {
     if (const std::optional<bool> on = parse_flag_word(typed))
       return d->submit(key, *spec, *on ? 1.0 : 0.0, typed, tr("Set %1 to %2").arg(key, flag_text(*on)));
+  }
+
+  if (const auto word = spec->value_of_word(typed.toStdString()))
+    return d->submit(key, *spec, *word, typed, tr("Set %1 to %2").arg(key, typed));
+  if (spec->is_choice()) {
+    d->reject(key, spec,
+              key + QStringLiteral(": expected %1, got \"%2\"").arg(QString::fromStdString(spec->choices_text()), typed));
+    return false;
   }
 
   double value = 0.0;

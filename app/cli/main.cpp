@@ -350,10 +350,12 @@ int steady_command(const std::string& scenario_path, int points, bool json, cons
 int parameters_command(bool markdown) {
   auto describe = [](const auto& spec) {
     std::string unit(spec.unit);
+    if (spec.is_choice()) return spec.choices_text();
     return spec.is_flag() ? std::string("true or false") : spec.range.describe(unit);
   };
   auto default_text = [](const auto& spec) {
     if (spec.is_flag()) return std::string(spec.default_value != 0.0 ? "true" : "false");
+    if (const auto word = spec.word_for(spec.default_value)) return "\"" + std::string(*word) + "\"";
     char buffer[32];
     std::snprintf(buffer, sizeof buffer, "%.6g", spec.default_value);
     return std::string(buffer);

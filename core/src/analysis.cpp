@@ -174,6 +174,12 @@ class SteadyProblem {
       x[state::control_pressure] =
           full_stroke ? p_.tank_pressure : bias_moment / (p_.control_piston_arm * d_.control_area);
       if (d_.layout.port_pressure >= 0) x[d_.layout.port_pressure] = x[state::control_pressure];
+      if (!full_stroke) {
+        // Regulating: the line carries what the valve takes at the setting.
+        const double q = orifice_flow(p_.valve_discharge_coefficient, p_.opening * p_.valve_area,
+                                      d_.setting - p_.tank_pressure, p_.density, p_.transition_pressure);
+        d_.line.set_steady(x, d_.setting, q);
+      }
       x[state::swash_angle] = small_angle;
       x[state::spool_position] = 0.0;
       y = unknowns_of(x);

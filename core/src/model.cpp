@@ -14,6 +14,7 @@ Layout layout_of(const ModelParameters& p) {
     if (orifice.present) layout.port_air = layout.add();
   }
   FlowRippleElement(p).add_states(layout);
+  LineElement(p, p.density, 1e-6 * p.viscosity_grade).add_states(layout);  // the layout needs only N
   return layout;
 }
 
@@ -53,7 +54,14 @@ Derived::Derived(const ModelParameters& p) {
   bias_force_at_full_stroke = p.bias_force_at_full_stroke * p.fault_bias_strength;
   bias_rate = p.bias_rate * p.fault_bias_strength;
   setting = p.setting * (1.0 - p.fault_setting_drift);
-  line_volume = p.line_volume * p.fault_line_volume_factor;
+  kinematic_viscosity = 1e-6 * oil.kinematic_viscosity;
+  line = LineElement(p, density, kinematic_viscosity);
+  line.locate(layout);
+  line_wall = line.wall;
+  // A line given by its geometry holds A L (half a reach at the pump end
+  // when distributed); the fault factor sizes the lumped line only.
+  line_volume = line.distributed ? 0.5 * line.reach_volume
+                                 : (line.geometry ? line.volume() : p.line_volume) * p.fault_line_volume_factor;
   case_pressure = p.tank_pressure + p.fault_case_pressure;
   coulomb_friction = p.fault_spool_friction;
   breakaway_friction = p.fault_spool_friction * p.fault_stiction_ratio;

@@ -1,5 +1,6 @@
 #include "swashtune/parameters.hpp"
 
+#include <array>
 #include <cmath>
 #include <limits>
 #include <sstream>
@@ -23,6 +24,12 @@ using P = ModelParameters;
 ParameterSpec with_word(ParameterSpec spec, std::string_view word, double value) {
   spec.none_word = word;
   spec.none_value = value;
+  return spec;
+}
+
+// A registry row whose value is one of a few words (stored as numbers).
+ParameterSpec with_choices(ParameterSpec spec, std::array<ParameterSpec::Choice, 3> choices) {
+  spec.choices = choices;
   return spec;
 }
 
@@ -83,7 +90,15 @@ std::vector<ParameterSpec> make_parameters() {
     {"relief.override", "dp_r", "Pa", 15e5, positive(1e8), "pressure rise above cracking at the rated flow", "bar", "psi", &P::relief_override},
     {"relief.rated_flow", "Q_r", "m^3/s", 100.0 / 60000.0, positive(1.0), "flow of the relief valve at cracking pressure plus override", "L/min", "gpm", &P::relief_rated_flow},
 
-    {"line.volume", "V_d", "m^3", 1.0e-3, positive(10.0), "oil volume between pump and load valve", "L", "in^3", &P::line_volume},
+    with_choices({"line.model", "", "-", 0.0, Range{0.0, 1.0}, "\"lumped\": the line is one volume (v1); \"distributed\": pressure waves along it (needs line.length and line.bore)", "-", "-", &P::line_model}, {{{"lumped", 0.0}, {"distributed", 1.0}}}),
+    {"line.volume", "V_d", "m^3", 1.0e-3, positive(10.0), "oil volume between pump and load valve (when line.length and line.bore are not given)", "L", "in^3", &P::line_volume},
+    with_word({"line.length", "L", "m", 0.0, positive(1e4), "length of the discharge line from the pump to the load valve (\"none\": the line is given by line.volume)", "m", "ft", &P::line_length}, "none", 0.0),
+    with_word({"line.bore", "d_l", "m", 0.0, positive(1.0), "inner diameter of the discharge line (\"none\": given by line.volume)", "mm", "in", &P::line_bore}, "none", 0.0),
+    with_choices({"line.wall", "", "-", 1.0, Range{0.0, 2.0}, "wall of the line: \"steel\" tube (line.wall_thickness, line.wall_modulus), \"hose\" (line.hose_expansion) or \"rigid\"", "-", "-", &P::line_wall}, {{{"steel", 1.0}, {"hose", 2.0}, {"rigid", 0.0}}}),
+    {"line.wall_thickness", "e", "m", 2.0e-3, positive(0.1), "wall thickness of a steel tube", "mm", "in", &P::wall_thickness},
+    {"line.wall_modulus", "E", "Pa", 206e9, Range{1e8, 1e12}, "Young's modulus of a tube's wall (steel about 206 GPa)", "GPa", "psi", &P::wall_modulus},
+    {"line.hose_expansion", "C_h", "m^3/(m*Pa)", 1.3e-13, non_negative(1e-9), "volumetric expansion of a hose per metre and per unit pressure (from the hose's data)", "cm^3/(m*bar)", "in^3/(ft*psi)", &P::hose_expansion},
+    {"line.reaches", "N_l", "-", 8.0, Range{2.0, 16.0}, "reaches of the distributed line (more follow higher modes, at more cost)", "-", "-", &P::line_reaches},
     {"line.tank_pressure", "p_t", "Pa", 0.0, non_negative(1e7), "case and tank pressure", "bar", "psi", &P::tank_pressure},
     with_word({"line.rated_pressure", "p_rated", "Pa", inf, positive(1e9), "rated pressure of the discharge line and its parts: a run that peaks above it prints a caution (\"none\": not given)", "bar", "psi", &P::rated_pressure}, "none", inf),
 
@@ -175,6 +190,18 @@ std::vector<std::string> check_consistency(const ModelParameters& p) {
   if (p.tank_pressure >= p.setting && p.setting > 0)
     problems.push_back("line.tank_pressure (" + number(p.tank_pressure) + " Pa) must be below compensator.setting (" +
                        number(p.setting) + " Pa)");
+  const bool length = p.line_length > 0.0, bore = p.line_bore > 0.0;
+  if (length != bore)
+    problems.push_back(std::string(length ? "line.length is given without line.bore" : "line.bore is given without line.length") +
+                       ": give both to describe the line by its geometry, or neither and give line.volume");
+  if (length && bore && p.line_volume != find_parameter("line.volume")->default_value)
+    problems.push_back("line.volume (" + number(p.line_volume) + " m^3) and line.length and line.bore are all given: the "
+                       "geometry gives the volume (" + number(0.25 * 3.14159265358979323846 * p.line_bore * p.line_bore * p.line_length) +
+                       " m^3); remove one or the other");
+  if (p.line_model == 1.0 && !(length && bore))
+    problems.push_back("line.model = \"distributed\" needs the line's geometry: give line.length and line.bore");
+  if (p.line_reaches != std::floor(p.line_reaches))
+    problems.push_back("line.reaches (" + number(p.line_reaches) + ") must be a whole number");
   return problems;
 }
 

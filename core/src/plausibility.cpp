@@ -30,6 +30,9 @@ std::vector<PlausibilityRule> make_rules() {
     {"pump.speed", 100.0, 5000.0, true, false, "pump shafts turn at", "rev/min", {"rev/s"}},
     {"pump.displacement", 0.5e-6, 2e-3, false, false, "piston pumps displace", "cm^3/rev", {"L/rev", "in^3/rev"}},
     {"line.volume", 1e-6, 0.2, false, false, "a pump's discharge line holds", "L", {"L"}},
+    {"line.length", 0.1, 200.0, true, false, "a pump's discharge line runs", "m", {"mm", "ft"}},
+    {"line.bore", 2e-3, 0.15, true, false, "discharge lines have bores of", "mm", {"m", "in"}},
+    {"line.wall_thickness", 0.3e-3, 25e-3, false, false, "tube walls are", "mm", {"m", "in"}},
     {"bias_spring.rate", 1e3, 2e6, true, false, "bias springs are rated", "N/mm", {"N/mm", "lbf/in"}},
     {"compensator.spring_rate", 1e3, 5e6, true, false, "compensator springs are rated", "N/mm", {"N/mm", "lbf/in"}},
   };

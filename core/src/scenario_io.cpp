@@ -248,6 +248,13 @@ class Reader {
       spec.set(owner, b->get() ? 1.0 : 0.0);
       return;
     }
+    if (spec.is_choice()) {
+      const auto* word = node.as_string();
+      const std::optional<double> value = word ? spec.value_of_word(word->get()) : std::nullopt;
+      if (!value) fail(line_of(node.source()), key, "expected " + spec.choices_text() + ", got " + describe(node));
+      spec.set(owner, *value);
+      return;
+    }
     if (const auto* word = node.as_string(); word && !spec.none_word.empty() && word->get() == spec.none_word) {
       spec.set(owner, spec.none_value);
       return;
@@ -309,6 +316,11 @@ class Reader {
 
   // Relations between parameters; the message starts with the key it is about.
   void check_consistency_of(const Scenario& scenario) const {
+    const ModelParameters& p = scenario.parameters;
+    if (p.line_length > 0.0 && p.line_bore > 0.0 && key_lines_.count("line.volume"))
+      throw ScenarioError(source_ + ":" + std::to_string(key_lines_.at("line.volume")) +
+                          ": line.volume and line.length and line.bore are all given: the geometry gives the "
+                          "volume; remove one or the other");
     const std::vector<std::string> problems = check_consistency(scenario.parameters);
     if (problems.empty()) return;
     const std::string& problem = problems.front();
@@ -453,9 +465,10 @@ std::string scenario_to_toml(const Scenario& scenario) {
       if (section_of(spec.key) != section) continue;
       const double value = spec.get(scenario.parameters);
       if (value == spec.default_value) continue;
-      add(spec.key, spec.is_flag()        ? (value != 0.0 ? "true" : "false")
-                    : spec.is_none(value) ? string_literal(spec.none_word)
-                                          : float_literal(value));
+      const std::optional<std::string_view> word = spec.word_for(value);
+      add(spec.key, spec.is_flag() ? (value != 0.0 ? "true" : "false")
+                    : word         ? string_literal(*word)
+                                   : float_literal(value));
     }
     if (!body.empty()) out << "\n[" << section << "]\n" << body;
   }

@@ -101,6 +101,7 @@ Sample make_sample(double t, const State& x, const ModelParameters& p) {
   s.x = x;
   s.pump_flow = f.geometric - f.leakage;
   s.load_flow = f.load;
+  s.valve_end_pressure = f.valve_end_pressure;
   s.leakage_flow = f.leakage;
   s.control_flow = f.to_control;
   s.opening = p.opening;
@@ -124,6 +125,11 @@ State state_scale(const ModelParameters& p) {
   for (int i : {layout.line_air, layout.chamber_air, layout.port_air})
     if (i >= 0) s[i] = air;
   if (layout.shaft_angle >= 0) s[layout.shaft_angle] = 2.0 * pi;
+  if (layout.line_reaches > 0) {
+    LineElement line(p, p.density, 1e-6 * p.viscosity_grade);
+    line.locate(layout);
+    line.set_scales(s, pressure, p.displacement * p.speed / 60.0);
+  }
   return s;
 }
 
@@ -153,6 +159,7 @@ InitialCondition full_stroke_guess(const ModelParameters& p) {
   ic.x[state::discharge_pressure] = line_pressure;
   ic.x[state::control_pressure] = p.tank_pressure;
   if (layout.port_pressure >= 0) ic.x[layout.port_pressure] = p.tank_pressure;
+  d.line.set_steady(ic.x, line_pressure, d.full_flow - d.leakage_coefficient * line_pressure);
   ic.x[state::swash_angle] = p.max_swash_angle;
   ic.modes.swash = Stop::upper;
   ic.modes.spool = Stop::free;

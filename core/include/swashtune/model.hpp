@@ -17,6 +17,7 @@
 #include "swashtune/model/flow_ripple.hpp"
 #include "swashtune/model/fluid_node.hpp"
 #include "swashtune/model/layout.hpp"
+#include "swashtune/model/line.hpp"
 #include "swashtune/model/oil.hpp"
 #include "swashtune/model/relief_valve.hpp"
 #include "swashtune/parameters.hpp"
@@ -85,7 +86,9 @@ struct Derived {
   double bias_force_at_full_stroke;
   double bias_rate;
   double setting;  // the pressure the spring preload balances
-  double line_volume;
+  double line_volume;  // of the lumped line, or of the distributed line's pump-end node
+  double line_wall;    // compliance of the line's wall per unit volume, 1/Pa
+  double kinematic_viscosity;  // m^2/s, at the oil's temperature
   double case_pressure;  // where the control chamber and the bleed drain
   double coulomb_friction;
   double breakaway_friction;
@@ -95,6 +98,7 @@ struct Derived {
   ControlOrificeElement control_orifice;
   ReliefValveElement relief;
   FlowRippleElement ripple;
+  LineElement line;
 
   explicit Derived(const ModelParameters& p);
 };
@@ -106,6 +110,7 @@ Layout layout_of(const ModelParameters& p);
 template <class T>
 struct FlowsOf {
   T line_pressure;      // p_d, what the flows see (the vapour floor applied)
+  T valve_end_pressure;  // at the load and relief valves: p_d for a lumped line
   T chamber_pressure;   // p_c
   T port_pressure;      // p_k, the spool's control port (= p_c without an orifice)
   T geometric;          // Q_g
@@ -161,9 +166,10 @@ FlowsOf<T> flows(const ModelParameters& p, const Derived& d, const StateOf<T>& x
                                               T(d.control_orifice.area), T(p_k - p_c), dp_tr)
                           : T(f.to_control - f.control_to_case);
   f.bleed = orifice_flow_with(k_spool, T(d.bleed_area), T(p_c - d.case_pressure), dp_tr);
+  f.valve_end_pressure = d.line.distributed ? d.cavitation.pressure(d.line.valve_end_state(x)) : p_d;
   f.load = orifice_flow_with(p.valve_discharge_coefficient * d.root_two_over_density, T(p.opening * p.valve_area),
-                             T(p_d - p.tank_pressure), dp_tr);
-  f.relief = d.relief.flow(p_d, p.tank_pressure);
+                             T(f.valve_end_pressure - p.tank_pressure), dp_tr);
+  f.relief = d.relief.flow(f.valve_end_pressure, p.tank_pressure);
   return f;
 }
 
@@ -236,13 +242,18 @@ T swash_friction(const Derived& d, const T& w) {
 // beta_e / V * q_net, with the entrained air alone (v1) or with air
 // released from the oil (a state of the cavitation element; `air_at` is
 // then the air's state at the volume's pressure).
+// `wall` is the compliance a line's wall adds per unit volume (1/Pa).
 template <class T>
 T pressure_rate(const ModelParameters& p, const Derived& d, const T& pressure, const T* released_air,
-                const AirAtPressure<T>* air_at, const T& volume, const T& q_net) {
+                const AirAtPressure<T>* air_at, const T& volume, const T& q_net, double wall = 0.0) {
   const T beta = released_air ? bulk_modulus_with_air(*air_at, p.bulk_modulus, T(d.air_fraction + *released_air),
                                                       p.polytropic_index)
                               : effective_bulk_modulus(pressure, p.bulk_modulus, d.air_fraction, p.polytropic_index);
-  return beta / volume * q_net;
+  if (wall == 0.0) return beta / volume * q_net;
+  // Written as the v1 expression (beta / V q) so that a constant beta, whose
+  // automatic derivative is empty, stays the left operand.
+  const T beta_with_wall = beta / (1.0 + beta * wall);
+  return beta_with_wall / volume * q_net;
 }
 
 // dx/dt. A coordinate held at a stop has zero rates here (the simulator
@@ -284,9 +295,20 @@ StateOf<T> derivatives(const ModelParameters& p, const Derived& d, const StopMod
     }
   }
 
+  // A distributed line takes the pump's delivery into its first reach; the
+  // valves draw from its far end.
+  const T into_line = d.line.distributed ? T(d.line.flow_into_line(x)) : T(f.load + f.relief);
   dx[state::discharge_pressure] =
       pressure_rate(p, d, f.line_pressure, air_line, &at_line, T(d.line_volume),
-                    T(f.geometric - f.leakage - f.to_control - f.load - f.relief + release_line));
+                    T(f.geometric - f.leakage - f.to_control - into_line + release_line), d.line_wall);
+  if (d.line.distributed)
+    d.line.rates(
+        x, f.line_pressure, T(f.load + f.relief), [&](const T& psi) { return d.cavitation.pressure(psi); },
+        [&](const T& pressure, double volume, const T& q_net) {
+          return pressure_rate(p, d, pressure, static_cast<const T*>(nullptr), static_cast<const AirAtPressure<T>*>(nullptr),
+                               T(volume), q_net, d.line_wall);
+        },
+        dx);
   if (d.control_orifice.present)
     dx[L.port_pressure] = pressure_rate(p, d, f.port_pressure, air_port, &at_port, T(d.control_orifice.port_volume),
                                         T(f.to_control - f.control_to_case - f.through_orifice + release_port));

@@ -3,6 +3,7 @@
 // line, the desktop editor and the docs all read it; nothing repeats it.
 #pragma once
 
+#include <array>
 #include <optional>
 #include <string>
 #include <string_view>
@@ -68,8 +69,16 @@ struct ModelParameters {
   double relief_setting = 0;     // Pa cracking pressure; +infinity: no relief valve
   double relief_override = 0;    // Pa rise above cracking at the rated flow
   double relief_rated_flow = 0;  // m^3/s
-  // discharge line
+  // discharge line (model/line.hpp)
+  double line_model = 0;  // LineModel: lumped (v1) or distributed
   double line_volume = 0;
+  double line_length = 0;          // m; 0: not given (the line is its volume)
+  double line_bore = 0;            // m inner diameter; 0: not given
+  double line_wall = 0;            // LineWall: rigid, steel tube or hose
+  double wall_thickness = 0;       // m, of a tube
+  double wall_modulus = 0;         // Pa, Young's modulus of a tube's wall
+  double hose_expansion = 0;       // m^3 per m of hose per Pa
+  double line_reaches = 0;         // reaches of the distributed line
   double tank_pressure = 0;
   double rated_pressure = 0;  // Pa, of the line and its parts (+inf: not given); only for the caution after a run
   // load needle valve
@@ -135,6 +144,36 @@ struct FieldSpec {
   double none_value = 0.0;
 
   bool is_none(double v) const { return !none_word.empty() && v == none_value; }
+  // Words only (e.g. line.model = "lumped" or "distributed"), stored as the
+  // numbers beside them; an empty word ends the list. No number is accepted.
+  struct Choice {
+    std::string_view word;
+    double value = 0.0;
+  };
+  std::array<Choice, 3> choices{};
+  bool is_choice() const { return !choices[0].word.empty(); }
+  // The word that stands for a stored value (a choice or the none word).
+  std::optional<std::string_view> word_for(double v) const {
+    for (const Choice& c : choices)
+      if (!c.word.empty() && c.value == v) return c.word;
+    if (is_none(v)) return none_word;
+    return std::nullopt;
+  }
+  std::optional<double> value_of_word(std::string_view w) const {
+    for (const Choice& c : choices)
+      if (!c.word.empty() && c.word == w) return c.value;
+    if (!none_word.empty() && w == none_word) return none_value;
+    return std::nullopt;
+  }
+  // "\"lumped\" or \"distributed\"", for messages.
+  std::string choices_text() const {
+    std::string out;
+    for (std::size_t i = 0; i < choices.size() && !choices[i].word.empty(); ++i) {
+      if (i) out += (i + 1 < choices.size() && !choices[i + 1].word.empty()) ? ", " : " or ";
+      out += "\"" + std::string(choices[i].word) + "\"";
+    }
+    return out;
+  }
 
   bool is_flag() const { return flag != nullptr; }
   double get(const Owner& o) const { return is_flag() ? (o.*flag ? 1.0 : 0.0) : o.*field; }

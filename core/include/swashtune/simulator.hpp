@@ -34,6 +34,7 @@ struct Sample {
   Eigen::VectorXd x;
   double pump_flow = 0.0;     // Q_g - Q_leak: what the pump delivers into the line
   double load_flow = 0.0;     // through the load valve
+  double valve_end_pressure = 0.0;  // Pa, at the load valve: the discharge pressure unless the line is distributed
   double leakage_flow = 0.0;  // internal leakage
   double control_flow = 0.0;  // Q_pc: taken by the compensator into the control chamber
   double opening = 0.0;       // load valve opening

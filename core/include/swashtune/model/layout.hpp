@@ -10,7 +10,8 @@
 
 namespace swashtune {
 
-inline constexpr int max_states = 48;
+// A distributed line of 16 reaches takes 80 states.
+inline constexpr int max_states = 96;
 
 namespace state {
 enum Index : int {
@@ -61,11 +62,16 @@ struct Layout {
   int chamber_air = -1;    //   ... in the control chamber
   int port_air = -1;       //   ... in the control port
   int shaft_angle = -1;    // flow ripple: shaft angle, rad
+  int line_reaches = 0;    // distributed line (model/line.hpp): its reaches N, and where
+  int line_nodes = -1;     //   the pressures of nodes 1..N,
+  int line_flows = -1;     //   the flows of reaches 1..N and
+  int line_friction = -1;  //   their unsteady-friction states (3 per reach) begin
 
   int add() { return size++; }
   friend bool operator==(const Layout& a, const Layout& b) {
     return a.size == b.size && a.port_pressure == b.port_pressure && a.line_air == b.line_air &&
-           a.chamber_air == b.chamber_air && a.port_air == b.port_air && a.shaft_angle == b.shaft_angle;
+           a.chamber_air == b.chamber_air && a.port_air == b.port_air && a.shaft_angle == b.shaft_angle &&
+           a.line_reaches == b.line_reaches && a.line_nodes == b.line_nodes;
   }
   friend bool operator!=(const Layout& a, const Layout& b) { return !(a == b); }
 };

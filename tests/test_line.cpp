@@ -1,0 +1,356 @@
+// The discharge line given by its geometry, and the distributed line
+// (issue 14), checked against outside sources: Korteweg's wave speed,
+// Joukowsky's surge, the exact dissipative transfer functions of a laminar
+// line (Brown 1962) and a method-of-characteristics solution with Zielke's
+// friction (Wylie and Streeter 1993), both computed by the independent
+// scipy reference tests/python/line_reference.py into tests/data/line/.
+#include <gtest/gtest.h>
+
+#include <Eigen/Dense>
+#include <boost/numeric/odeint.hpp>
+#include <cmath>
+#include <complex>
+#include <fstream>
+#include <map>
+#include <sstream>
+
+#include "swashtune/model.hpp"
+#include "swashtune/scenario.hpp"
+
+using namespace swashtune;
+
+namespace {
+
+const std::string line_data = std::string(SWASHTUNE_SOURCE_DIR) + "/tests/data/line/";
+
+// The reference's line: L = 3.2 m, r = 10 mm, c = 1300 m/s, rho = 870
+// kg/m^3, nu = 46e-6 m^2/s (the files' headers), with a rigid wall so that
+// c = sqrt(K / rho).
+constexpr double length = 3.2, bore = 0.02, wave_speed = 1300.0, density = 870.0, viscosity = 46e-6;
+constexpr double bulk_modulus = density * wave_speed * wave_speed;
+
+// The line element alone: node 0 at index 0, its own states after it.
+struct LineRig {
+  LineElement line;
+  Layout layout;
+  double node0_volume = 0.0;
+
+  LineRig(int reaches, double nu) {
+    ModelParameters p = default_parameters();
+    p.line_length = length;
+    p.line_bore = bore;
+    p.line_wall = static_cast<double>(LineWall::rigid);
+    p.line_model = static_cast<double>(LineModel::distributed);
+    p.line_reaches = reaches;
+    line = LineElement(p, density, nu);
+    layout.size = 1;
+    line.add_states(layout);
+    line.locate(layout);
+    node0_volume = 0.5 * line.reach_volume;
+  }
+  int size() const { return layout.size; }
+
+  // dx/dt with q0 into node 0 (hold_node0: node 0 at a fixed pressure) and
+  // q_out leaving node N.
+  State rates(const State& x, double q0, double q_out, bool hold_node0) const {
+    State dx = State::Zero(size());
+    line.rates<double>(
+        x, x[0], q_out, [](double p) { return p; },
+        [](double, double volume, double q) { return bulk_modulus / volume * q; }, dx);
+    dx[0] = hold_node0 ? 0.0 : bulk_modulus / node0_volume * (q0 - x[line.first_flow]);
+    return dx;
+  }
+};
+
+// The 2 x 2 impedance matrix [P0; PL] = Z [Q0; QL] of the linear rig at f.
+Eigen::Matrix2cd impedance(const LineRig& rig, double f) {
+  const int n = rig.size();
+  Eigen::MatrixXd a(n, n);
+  const State zero = State::Zero(n);
+  for (int j = 0; j < n; ++j) {
+    State e = zero;
+    e[j] = 1.0;
+    a.col(j) = rig.rates(e, 0.0, 0.0, false);  // linear: the column is exact
+  }
+  Eigen::MatrixXd b(n, 2);
+  b.col(0) = rig.rates(zero, 1.0, 0.0, false);
+  b.col(1) = rig.rates(zero, 0.0, 1.0, false);
+  const std::complex<double> s(0.0, 2.0 * pi * f);
+  const Eigen::MatrixXcd m = s * Eigen::MatrixXcd::Identity(n, n) - a.cast<std::complex<double>>();
+  const Eigen::MatrixXcd x = m.partialPivLu().solve(b.cast<std::complex<double>>());
+  Eigen::Matrix2cd z;
+  z.row(0) = x.row(0);
+  z.row(1) = x.row(rig.line.first_node + rig.line.reaches - 1);
+  // Convention of the reference: QL flows out of the line, Z12 = dP0/dQL.
+  return z;
+}
+
+double blocked_magnitude(const LineRig& rig, double f) { return std::abs(impedance(rig, f)(0, 0)); }
+double open_magnitude(const LineRig& rig, double f) {
+  const Eigen::Matrix2cd z = impedance(rig, f);
+  return std::abs(z(0, 0) - z(0, 1) * z(1, 0) / z(1, 1));  // PL = 0
+}
+
+// The frequencies of the first `count` peaks of |Z| above lo (a scan on a
+// log scale, each local maximum refined by golden section).
+template <class F>
+std::vector<double> peaks_of(F magnitude, double lo, double hi, int count) {
+  const int points = 1500;
+  const double ratio = std::pow(hi / lo, 1.0 / points);
+  std::vector<double> found;
+  double before = magnitude(lo), here = magnitude(lo * ratio);
+  for (int i = 2; i <= points && static_cast<int>(found.size()) < count; ++i) {
+    const double f = lo * std::pow(ratio, i), after = magnitude(f);
+    if (here > before && here >= after) {
+      double a = f / ratio / ratio, b = f;
+      const double g = 0.5 * (std::sqrt(5.0) - 1.0);
+      for (int it = 0; it < 60; ++it) {
+        const double c = b - g * (b - a), d = a + g * (b - a);
+        if (magnitude(c) > magnitude(d))
+          b = d;
+        else
+          a = c;
+      }
+      found.push_back(0.5 * (a + b));
+    }
+    before = here;
+    here = after;
+  }
+  return found;
+}
+
+struct Peak {
+  std::string end;
+  int mode;
+  double frequency, magnitude;
+};
+
+std::vector<Peak> reference_peaks() {
+  std::ifstream in(line_data + "brown-peaks.csv");
+  std::vector<Peak> out;
+  std::string line;
+  while (std::getline(in, line)) {
+    if (line.empty() || line[0] == '#' || line.rfind("end,", 0) == 0) continue;
+    std::stringstream row(line);
+    Peak p;
+    std::string field;
+    std::getline(row, p.end, ',');
+    std::getline(row, field, ',');
+    p.mode = std::stoi(field);
+    std::getline(row, field, ',');
+    p.frequency = std::stod(field);
+    std::getline(row, field, ',');
+    p.magnitude = std::stod(field);
+    out.push_back(p);
+  }
+  return out;
+}
+
+// Columns of a reference CSV (after its '#' lines) and a header value
+// "NAME = VALUE" from its comments.
+struct Table {
+  std::map<std::string, std::vector<double>> columns;
+  std::string comments;
+};
+
+Table read_table(const std::string& path) {
+  std::ifstream in(path);
+  Table t;
+  std::string line;
+  std::vector<std::string> names;
+  while (std::getline(in, line)) {
+    if (line.empty()) continue;
+    if (line[0] == '#') {
+      t.comments += line + "\n";
+      continue;
+    }
+    std::stringstream row(line);
+    std::string field;
+    if (names.empty()) {
+      while (std::getline(row, field, ',')) names.push_back(field);
+      continue;
+    }
+    for (std::size_t k = 0; std::getline(row, field, ','); ++k) t.columns[names.at(k)].push_back(std::stod(field));
+  }
+  return t;
+}
+
+double header_value(const Table& t, const std::string& name) {
+  const auto at = t.comments.find(name + " = ");
+  if (at == std::string::npos) return std::nan("");
+  return std::stod(t.comments.substr(at + name.size() + 3));
+}
+
+// The reservoir case of the reference: node 0 held at 100 bar, the valve
+// closing linearly from 2 ms to 3 ms. Returns the valve-end pressure at the
+// reference's sample times.
+std::vector<double> reservoir_run(const LineRig& rig, double valve_area, const std::vector<double>& times) {
+  using Vec = std::vector<double>;
+  const double p0 = 100e5;
+  auto tau = [](double t) { return t < 2e-3 ? 1.0 : t < 3e-3 ? 1.0 - (t - 2e-3) / 1e-3 : 0.0; };
+  auto valve_flow = [&](double p, double t) {
+    return valve_area * tau(t) * (p >= 0 ? 1.0 : -1.0) * std::sqrt(2.0 * std::abs(p) / density);
+  };
+  // Steady start: the flow q at which the valve passes what the line's
+  // laminar drop leaves (bisection).
+  double lo = 0.0, hi = 1e-2;
+  for (int i = 0; i < 200; ++i) {
+    const double q = 0.5 * (lo + hi);
+    const double p_valve = p0 - rig.line.friction_gain * q * rig.line.reaches;
+    (valve_flow(p_valve, 0.0) > q ? lo : hi) = q;
+  }
+  State x0 = State::Zero(rig.size());
+  x0[0] = p0;
+  rig.line.set_steady(x0, p0, 0.5 * (lo + hi));
+  Vec x(x0.data(), x0.data() + x0.size());
+  const int valve_node = rig.line.first_node + rig.line.reaches - 1;
+  auto system = [&](const Vec& y, Vec& dy, double t) {
+    const State s = Eigen::Map<const Eigen::VectorXd>(y.data(), static_cast<Eigen::Index>(y.size()));
+    const State d = rig.rates(s, 0.0, valve_flow(s[valve_node], t), true);
+    dy.assign(d.data(), d.data() + d.size());
+  };
+  namespace ode = boost::numeric::odeint;
+  std::vector<double> out;
+  double t = 0.0;
+  auto stepper = ode::make_controlled(1e-10, 1e-8, ode::runge_kutta_dopri5<Vec>());
+  for (double t_next : times) {
+    if (t_next > t) ode::integrate_adaptive(stepper, system, x, t, t_next, 1e-6);
+    t = t_next;
+    out.push_back(x[valve_node]);
+  }
+  return out;
+}
+
+}  // namespace
+
+// Korteweg (1878): a thin-walled tube of bore D, wall e and modulus E slows
+// the waves to c = sqrt(K / rho / (1 + K D / (E e))). For oil of 1.6 GPa and
+// 870 kg/m^3 in a 20 x 2 mm steel tube (206 GPa): 1356.1 m/s rigid,
+// 1306.3 m/s in the tube (the formula evaluated with /usr/bin/python3).
+TEST(LineGeometry, KortewegWaveSpeedAndVolumeFromTheGeometry) {
+  ModelParameters p = default_parameters();
+  p.line_length = 3.2;
+  p.line_bore = 0.02;
+  const LineElement steel(p, 870.0, 46e-6);
+  EXPECT_NEAR(steel.volume(), 1.00531e-3, 1e-8);  // pi/4 (0.02 m)^2 3.2 m
+  EXPECT_NEAR(steel.wave_speed(1.6e9, 870.0), 1306.34, 0.01);
+  p.line_wall = static_cast<double>(LineWall::rigid);
+  EXPECT_NEAR(LineElement(p, 870.0, 46e-6).wave_speed(1.6e9, 870.0), 1356.13, 0.01);
+  // The lumped model takes the geometry's volume and the wall's compliance.
+  p.line_wall = static_cast<double>(LineWall::steel);
+  const Derived d(p);
+  EXPECT_NEAR(d.line_volume, steel.volume(), 1e-15);
+  EXPECT_NEAR(d.line_wall, 0.02 / (206e9 * 2e-3), 1e-20);
+}
+
+TEST(LineGeometry, RefusesAVolumeAndAGeometryTogetherAndHalfAGeometry) {
+  const std::string base = "[line]\nlength = \"3.2 m\"\nbore = \"20 mm\"\n";
+  try {
+    parse_scenario(base + "volume = \"1 L\"\n", "both.toml");
+    FAIL() << "no error";
+  } catch (const ScenarioError& e) {
+    EXPECT_NE(std::string(e.what()).find("both.toml:4: line.volume and line.length and line.bore are all given"),
+              std::string::npos)
+        << e.what();
+  }
+  try {
+    parse_scenario("[line]\nlength = \"3.2 m\"\n", "half.toml");
+    FAIL() << "no error";
+  } catch (const ScenarioError& e) {
+    EXPECT_NE(std::string(e.what()).find("line.length is given without line.bore"), std::string::npos) << e.what();
+  }
+  try {
+    parse_scenario("[line]\nmodel = \"waves\"\n", "model.toml");
+    FAIL() << "no error";
+  } catch (const ScenarioError& e) {
+    EXPECT_NE(std::string(e.what()).find("expected \"lumped\" or \"distributed\""), std::string::npos) << e.what();
+  }
+  try {
+    parse_scenario("[line]\nmodel = \"distributed\"\n", "nogeometry.toml");
+    FAIL() << "no error";
+  } catch (const ScenarioError& e) {
+    EXPECT_NE(std::string(e.what()).find("needs the line's geometry"), std::string::npos) << e.what();
+  }
+  const Scenario s = parse_scenario(base + "model = \"distributed\"\nwall = \"hose\"\n", "ok.toml");
+  EXPECT_EQ(s.parameters.line_wall, static_cast<double>(LineWall::hose));
+  EXPECT_EQ(s.parameters.line_model, static_cast<double>(LineModel::distributed));
+}
+
+// Resonance peaks of the segmented line against Brown's exact laminar line
+// (brown-peaks.csv): the half-wave modes with the valve end blocked and the
+// quarter-wave modes with it at constant pressure. The error grows with the
+// mode (the segmented line's dispersion) and falls with more reaches.
+TEST(DistributedLine, ResonancesAgainstTheExactLaminarLine) {
+  const std::vector<Peak> reference = reference_peaks();
+  ASSERT_EQ(reference.size(), 10u);
+  for (int reaches : {8, 16}) {
+    const LineRig rig(reaches, viscosity);
+    const std::vector<double> blocked = peaks_of([&](double f) { return blocked_magnitude(rig, f); }, 20.0, 1500.0, 5);
+    const std::vector<double> open = peaks_of([&](double f) { return open_magnitude(rig, f); }, 20.0, 1500.0, 5);
+    ASSERT_EQ(blocked.size(), 5u);
+    ASSERT_EQ(open.size(), 5u);
+    double worst_first = 0.0, worst = 0.0, worst_height = 0.0;
+    for (const Peak& r : reference) {
+      const double f = (r.end == "blocked" ? blocked : open)[r.mode - 1];
+      const double height = (r.end == "blocked" ? blocked_magnitude(rig, f) : open_magnitude(rig, f)) / r.magnitude - 1;
+      const double error = f / r.frequency - 1.0;
+      std::printf("%2d reaches, %-7s mode %d: %8.2f Hz against %8.2f Hz (%+.2f %%), peak |Z| %+.1f %%\n", reaches,
+                  r.end.c_str(), r.mode, f, r.frequency, 100 * error, 100 * height);
+      worst = std::max(worst, std::abs(error));
+      if (r.mode <= 2) {
+        worst_first = std::max(worst_first, std::abs(error));
+        worst_height = std::max(worst_height, std::abs(height));
+      }
+    }
+    std::printf("%2d reaches: worst frequency error %.2f %% over five modes, %.2f %% over the first two "
+                "(their peak heights within %.0f %%)\n",
+                reaches, 100 * worst, 100 * worst_first, 100 * worst_height);
+    // Dispersion of N reaches, (2N/pi) sin(k pi/(2N)) - 1 at the 5th
+    // half-wave mode: -15 % (N = 8) and -4 % (N = 16); friction shifts
+    // each mode by 0.6-1.9 % (the reference's peaks).
+    EXPECT_LT(worst, reaches == 8 ? 0.17 : 0.05);
+    EXPECT_LT(worst_first, reaches == 8 ? 0.03 : 0.01);
+    // Three exponentials (Trikha) under-damp the modes: the peaks stand
+    // too high (achieved: 26 %), a known limit of this approximation.
+    EXPECT_LT(worst_height, 0.3);
+  }
+}
+
+// A valve closing in 1 ms (< 2L/c = 4.9 ms) at the end of a line fed from a
+// reservoir: the surge against Joukowsky's rho c dv, and the valve-end
+// pressure against the method of characteristics with Zielke's friction.
+TEST(DistributedLine, SurgeAgainstJoukowskyAndTheMethodOfCharacteristics) {
+  const Table lossless = read_table(line_data + "moc-reservoir-lossless.csv");
+  const Table zielke = read_table(line_data + "moc-reservoir.csv");
+  const double area = 0.25 * pi * bore * bore;
+  for (int reaches : {8, 16}) {
+    // Lossless: nu = 0 removes the friction.
+    const LineRig ideal(reaches, 0.0);
+    const std::vector<double>& t = lossless.columns.at("t_s");
+    const std::vector<double> p = reservoir_run(ideal, header_value(lossless, "CdA"), t);
+    const double q0 = 1.35e-3, steady = p.front();
+    double highest = steady;
+    for (std::size_t i = 0; i < t.size() && t[i] < 3e-3 + 2 * length / wave_speed; ++i) highest = std::max(highest, p[i]);
+    const double joukowsky = density * wave_speed * q0 / area;
+    std::printf("%2d reaches, lossless: surge %.2f bar against Joukowsky's %.2f bar (%+.1f %%)\n", reaches,
+                (highest - steady) / 1e5, joukowsky / 1e5, 100 * ((highest - steady) / joukowsky - 1.0));
+    EXPECT_LT(std::abs((highest - steady) / joukowsky - 1.0), reaches == 8 ? 0.1 : 0.06);  // achieved: 7.3 %, 4.3 % (the segmented line rings above the sharp front)
+
+    const LineRig real(reaches, viscosity);
+    const std::vector<double>& tz = zielke.columns.at("t_s");
+    const std::vector<double> pz = reservoir_run(real, header_value(zielke, "CdA"), tz);
+    const std::vector<double>& moc = zielke.columns.at("p_valve_Pa");
+    double worst = 0.0, sum = 0.0, peak_ours = 0.0, peak_moc = 0.0;
+    for (std::size_t i = 0; i < tz.size(); ++i) {
+      worst = std::max(worst, std::abs(pz[i] - moc[i]));
+      sum += (pz[i] - moc[i]) * (pz[i] - moc[i]);
+      peak_ours = std::max(peak_ours, pz[i]);
+      peak_moc = std::max(peak_moc, moc[i]);
+    }
+    const double rms = std::sqrt(sum / tz.size());
+    std::printf("%2d reaches, Zielke friction: valve end against the MOC: peak %.2f bar against %.2f bar, rms %.2f bar, "
+                "worst %.2f bar over %.0f ms\n",
+                reaches, peak_ours / 1e5, peak_moc / 1e5, rms / 1e5, worst / 1e5, 1e3 * tz.back());
+    EXPECT_LT(rms, reaches == 8 ? 9e5 : 5e5);  // achieved: 7.1 bar, 3.9 bar
+  }
+}
