@@ -777,6 +777,15 @@ StabilityReport analyse_stability(const ModelParameters& p, const RunSettings& s
                          !report.dry_friction_dominates && report.operating_point.converged;
   report.note = margins_note(p, report);
   report.explanation = explain_stability(report);
+  if (const LineElement line(p, p.density, 1e-6 * p.viscosity_grade); line.distributed && report.dominant) {
+    const double resolved = line.resolved_frequency(line.wave_speed(p.bulk_modulus, p.density));
+    if (report.dominant->damped_frequency_hz > resolved)
+      report.explanation.push_back(format(
+          "The least damped mode, at %.0f Hz, lies above the %.0f Hz up to which the line's %d reaches place its modes "
+          "within 5 %%: its frequency and damping are not resolved. Raise line.reaches (at most 15) and see whether "
+          "the verdict holds before acting on it.",
+          report.dominant->damped_frequency_hz, resolved, line.reaches));
+  }
   if (report.dry_friction && !report.dry_friction_dominates) {
     const std::string which = listed_dry_friction(p);
     report.explanation.push_back(format(

@@ -98,7 +98,7 @@ std::vector<ParameterSpec> make_parameters() {
     {"line.wall_thickness", "e", "m", 2.0e-3, positive(0.1), "wall thickness of a steel tube", "mm", "in", &P::wall_thickness},
     {"line.wall_modulus", "E", "Pa", 206e9, Range{1e8, 1e12}, "Young's modulus of a tube's wall (steel about 206 GPa)", "GPa", "psi", &P::wall_modulus},
     {"line.hose_expansion", "C_h", "m^3/(m*Pa)", 1.3e-13, non_negative(1e-9), "volumetric expansion of a hose per metre and per unit pressure (from the hose's data)", "cm^3/(m*bar)", "in^3/(ft*psi)", &P::hose_expansion},
-    {"line.reaches", "N_l", "-", 8.0, Range{2.0, 16.0}, "reaches of the distributed line (more follow higher modes, at more cost)", "-", "-", &P::line_reaches},
+    {"line.reaches", "N_l", "-", 8.0, Range{2.0, 15.0}, "reaches of the distributed line (more follow higher modes, at more cost)", "-", "-", &P::line_reaches},
     {"line.tank_pressure", "p_t", "Pa", 0.0, non_negative(1e7), "case and tank pressure", "bar", "psi", &P::tank_pressure},
     with_word({"line.rated_pressure", "p_rated", "Pa", inf, positive(1e9), "rated pressure of the discharge line and its parts: a run that peaks above it prints a caution (\"none\": not given)", "bar", "psi", &P::rated_pressure}, "none", inf),
 

@@ -10,8 +10,10 @@
 
 namespace swashtune {
 
-// A distributed line of 16 reaches takes 80 states.
-inline constexpr int max_states = 96;
+// A distributed line of 15 reaches takes 105 states. The Jacobian's state
+// of automatic-differentiation scalars, max_states^2 doubles, must stay
+// under Eigen's 128 kB limit for an object on the stack.
+inline constexpr int max_states = 120;
 
 namespace state {
 enum Index : int {
@@ -65,7 +67,7 @@ struct Layout {
   int line_reaches = 0;    // distributed line (model/line.hpp): its reaches N, and where
   int line_nodes = -1;     //   the pressures of nodes 1..N,
   int line_flows = -1;     //   the flows of reaches 1..N and
-  int line_friction = -1;  //   their unsteady-friction states (3 per reach) begin
+  int line_friction = -1;  //   their unsteady-friction states (LineElement::friction_terms per reach) begin
 
   int add() { return size++; }
   friend bool operator==(const Layout& a, const Layout& b) {
