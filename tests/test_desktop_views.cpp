@@ -5,6 +5,9 @@
 #include <qcustomplot.h>
 
 #include <QComboBox>
+#include <QFile>
+#include <QStatusBar>
+#include <QLabel>
 #include <QDoubleSpinBox>
 #include <QListWidget>
 #include <QMenu>
@@ -154,6 +157,62 @@ class ViewsTest : public QObject {
     QCustomPlot* cmp = w.compare()->plots().front();
     cmp->replot(QCustomPlot::rpImmediateRefresh);
     QVERIFY(!cmp->legend->outerRect().intersects(cmp->axisRect()->outerRect()));
+  }
+
+  // A study whose line is distributed draws the pressure at the load valve
+  // beside the discharge pressure, with its read-out; a lumped line does not.
+  void valveEndPressureIsDrawnForADistributedLine() {
+    QTemporaryDir dir;
+    QFile in(demo);
+    QVERIFY(in.open(QIODevice::ReadOnly));
+    QString text = QString::fromUtf8(in.readAll());
+    text.replace(QStringLiteral("volume = \"1 L\""),
+                 QStringLiteral("model = \"distributed\"\nlength = \"3.2 m\"\nbore = \"20 mm\"\nreaches = 4"));
+    const QString path = dir.filePath(QStringLiteral("long-line.toml"));
+    QFile out(path);
+    QVERIFY(out.open(QIODevice::WriteOnly));
+    out.write(text.toUtf8());
+    out.close();
+
+    MainWindow w(quiet());
+    QVERIFY(show_active(w));
+    auto valve_end_graph = [&]() -> QCPGraph* {
+      QCustomPlot* pressure = w.traces()->plots().front();
+      for (int i = 0; i < pressure->graphCount(); ++i)
+        if (pressure->graph(i)->name() == QLatin1String("valve end")) return pressure->graph(i);
+      return nullptr;
+    };
+    QCustomPlot* pressure = w.traces()->plots().front();
+    // Run to the end: the run is laid over the charts, one dashed line per
+    // pressure it has.
+    auto run_to_end = [&] {
+      const int before = pressure->graphCount();
+      menu_action(w, "Run", "Run the study's events to the end")->trigger();
+      for (int waited = 0; pressure->graphCount() == before && waited < 20000; waited += 20) QTest::qWait(20);
+      return pressure->graphCount() - before;
+    };
+    w.openFile(demo);
+    settle();
+    QVERIFY(valve_end_graph());
+    QVERIFY(!valve_end_graph()->visible());
+    QCOMPARE(run_to_end(), 2);  // discharge and control
+
+    w.openFile(path);
+    settle();
+    QVERIFY(valve_end_graph() && valve_end_graph()->visible());
+    QVERIFY(w.traces()->findChild<QLabel*>(QStringLiteral("readout_7"))->isVisible());
+    QCOMPARE(run_to_end(), 3);  // and the valve end
+    auto peak_of = [](const QCPGraph* g) {
+      double peak = 0.0;
+      for (auto it = g->data()->constBegin(); it != g->data()->constEnd(); ++it) peak = std::max(peak, it->value);
+      return peak;
+    };
+    const int n = pressure->graphCount();
+    const double valve_peak = peak_of(pressure->graph(n - 1)), discharge_peak = peak_of(pressure->graph(n - 3));
+    QVERIFY(pressure->graph(n - 1)->data()->size() > 1000);
+    // The slam's surge: the pump end sees the reflected wave on top of the
+    // valve end's (about 281 and 263 bar on this line).
+    QVERIFY2(discharge_peak > valve_peak + 5.0, qPrintable(QStringLiteral("%1 %2").arg(discharge_peak).arg(valve_peak)));
   }
 
   // While following, the time axis spans 5 s of wall time at the chosen time scale.

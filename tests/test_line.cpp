@@ -237,11 +237,13 @@ TEST(LineGeometry, KortewegWaveSpeedAndVolumeFromTheGeometry) {
   EXPECT_NEAR(steel.wave_speed(1.6e9, 870.0), 1306.34, 0.01);
   p.line_wall = static_cast<double>(LineWall::rigid);
   EXPECT_NEAR(LineElement(p, 870.0, 46e-6).wave_speed(1.6e9, 870.0), 1356.13, 0.01);
-  // The lumped model takes the geometry's volume and the wall's compliance.
+  // The lumped model takes the geometry's volume with the pump's outlet
+  // volume, and the wall's compliance over the line's part of it.
   p.line_wall = static_cast<double>(LineWall::steel);
   const Derived d(p);
-  EXPECT_NEAR(d.line_volume, steel.volume(), 1e-15);
+  EXPECT_NEAR(d.line_volume, steel.volume() + p.pump_outlet_volume, 1e-15);
   EXPECT_NEAR(d.line_wall, 0.02 / (206e9 * 2e-3), 1e-20);
+  EXPECT_NEAR(d.pump_end_wall, d.line_wall * steel.volume() / d.line_volume, 1e-20);
 }
 
 TEST(LineGeometry, RefusesAVolumeAndAGeometryTogetherAndHalfAGeometry) {

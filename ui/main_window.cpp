@@ -40,6 +40,7 @@
 #include "pressure_flow_view.hpp"
 #include "session_controller.hpp"
 #include "swashtune/atomic_file.hpp"
+#include "swashtune/model.hpp"
 #include "swashtune/results_io.hpp"
 #include "swashtune/safety.hpp"
 #include "swashtune/version.hpp"
@@ -295,6 +296,7 @@ MainWindow::MainWindow(Options options, QWidget* parent)
   connect(session_, &SessionController::sessionStarted, this, [this] {
     traces_->clear();
     const ModelParameters present = session_->parametersNow();
+    traces_->setValveEndShown(LineElement(present, present.density, 1e-6 * present.viscosity_grade).distributed);
     controls_->showParameters(present);
     editor_->setValues(present);
     troubleshooting_->showParameters(present);

@@ -9,6 +9,7 @@ namespace swashtune::ui {
 SampleReader column_reader(std::string_view quantity) {
   for (const TraceColumn& c : trace_columns())
     if (c.quantity == quantity) return c.read;
+  if (quantity == valve_end_pressure_column().quantity) return valve_end_pressure_column().read;
   return nullptr;
 }
 

@@ -43,7 +43,10 @@ const TraceSpec kTraces[] = {
     {"load", "load flow", 1, Quantity::flow, "load_flow", 0x2f9e44, false},
     {"swash angle", "swash angle", 2, Quantity::angle, "swash_angle", 0xc2255c, false},
     {"spool position", "spool", 3, Quantity::length, "spool_position", 0x0c8599, false},
+    // Shown only for a distributed line (setValveEndShown).
+    {"valve end", "valve end", 0, Quantity::pressure, "valve_end_pressure", 0xe67700, false},
 };
+constexpr int kValveEndTrace = 7;
 constexpr int kTraceCount = static_cast<int>(std::size(kTraces));
 
 struct ChartSpec {
@@ -128,6 +131,7 @@ struct TraceView::Impl : QObject {
   std::optional<double> cursorTime;
   int leftMargin = 0;  // shared by the charts so their value axes line up
   bool legendShown = false;
+  bool valveEndShown = false;
 
   explicit Impl(TraceView* v) : view(v) {
     for (int k = 0; k < kTraceCount; ++k) readers[k] = column_reader(kTraces[k].column);
@@ -317,6 +321,9 @@ void TraceView::Impl::build() {
     live[k]->setVisible(readers[k] != nullptr);
     if (kTraces[k].chart != 0 || kTraces[k].reference) live[k]->removeFromLegend();
   }
+  live[kValveEndTrace]->setVisible(false);
+  live[kValveEndTrace]->removeFromLegend();
+  readouts[kValveEndTrace]->setVisible(false);
   view->installEventFilter(this);
   applyStyle();
   relabel();
@@ -743,6 +750,21 @@ void TraceView::showPresent(const Sample& present) {
   d->updateReadouts();
 }
 
+void TraceView::setValveEndShown(bool shown) {
+  if (d->valveEndShown == shown) return;
+  d->valveEndShown = shown;
+  QCPGraph* g = d->live[kValveEndTrace];
+  g->setVisible(shown);
+  if (shown)
+    g->addToLegend();
+  else
+    g->removeFromLegend();
+  d->readouts[kValveEndTrace]->setVisible(shown);
+  d->replotAll();
+}
+
+bool TraceView::valveEndShown() const { return d->valveEndShown; }
+
 void TraceView::clear() {
   d->samples.clear();
   d->head = 0;
@@ -803,6 +825,7 @@ void TraceView::addOverlay(const QString& name, const std::vector<Sample>& trace
   o.time.reserve(trace.size());
   for (const Sample& s : trace) o.time.push_back(s.time);
   for (int k = 0; k < kTraceCount; ++k) {
+    if (k == kValveEndTrace && !d->valveEndShown) continue;  // the discharge pressure again
     o.si[k].reserve(trace.size());
     for (const Sample& s : trace) o.si[k].push_back(d->si(k, s));
   }

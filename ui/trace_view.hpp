@@ -32,6 +32,10 @@ class TraceView : public QWidget {
   // The present state for the read-outs (also while held, when no new sample comes).
   void showPresent(const Sample& present);
   void clear();                            // live data and cursor, not overlays
+  // The pressure at the load valve, drawn with the discharge pressure when
+  // the study's line is distributed (the two differ only then).
+  void setValveEndShown(bool shown);
+  bool valveEndShown() const;
   void setWindowSeconds(double seconds);   // visible span while following the run
   // Simulated seconds per wall second: the followed span is 5 s of wall time.
   void setTimeScale(double scale);

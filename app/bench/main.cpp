@@ -17,6 +17,7 @@
 #include <vector>
 
 #include "cvode_peer.hpp"
+#include "line_bench.hpp"
 #include "swashtune/results_io.hpp"
 #include "swashtune/scenario.hpp"
 #include "swashtune/simulator.hpp"
@@ -365,10 +366,32 @@ int main(int argc, char** argv) {
   app.add_option("--cores", sweep.cores, "with --sweep: N (default: the cores of this machine)")
       ->check(CLI::Range(1, 256));
   app.add_option("--cli", sweep.cli, "with --sweep: the swashtune-cli to measure")->capture_default_str();
+  bool line_mode = false;
+  bench::LineBenchOptions line;
+  app.add_flag("--line", line_mode,
+               "cost of the distributed discharge line by its number of reaches, on the first scenario with its "
+               "line given as --length x --bore (steel)");
+  app.add_option("--length", line.length, "with --line: line length, m")->check(CLI::Range(0.1, 1e4))->capture_default_str();
+  app.add_option("--bore", line.bore, "with --line: line bore, m")->check(CLI::Range(1e-3, 1.0))->capture_default_str();
   try {
     app.parse(argc, argv);
   } catch (const CLI::ParseError& e) {
     return app.exit(e) == 0 ? exit_ok : exit_bad_input;
+  }
+
+  if (line_mode) {
+    line.scenario = scenarios.front();
+    line.repeat_time = repeat_time;
+    try {
+      bench::run_line_bench(line, json, std::cout);
+      return exit_ok;
+    } catch (const ScenarioError& e) {
+      std::cerr << e.what() << "\n";
+      return exit_bad_input;
+    } catch (const std::exception& e) {
+      std::cerr << "swashtune-bench --line: " << e.what() << "\n";
+      return exit_solver_failed;
+    }
   }
 
   if (sweep_mode) {

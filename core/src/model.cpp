@@ -59,9 +59,18 @@ Derived::Derived(const ModelParameters& p) {
   line.locate(layout);
   line_wall = line.wall;
   // A line given by its geometry holds A L (half a reach at the pump end
-  // when distributed); the fault factor sizes the lumped line only.
-  line_volume = line.distributed ? 0.5 * line.reach_volume
-                                 : (line.geometry ? line.volume() : p.line_volume) * p.fault_line_volume_factor;
+  // when distributed) and meets the pump's own outlet volume, whose housing
+  // adds no compliance; line.volume includes it. The fault factor sizes the
+  // lumped line only.
+  const double line_part = line.distributed ? 0.5 * line.reach_volume : line.volume();
+  if (line.geometry) {
+    line_volume = line_part + p.pump_outlet_volume;
+    pump_end_wall = line.wall * line_part / line_volume;
+    if (!line.distributed) line_volume *= p.fault_line_volume_factor;
+  } else {
+    line_volume = p.line_volume * p.fault_line_volume_factor;
+    pump_end_wall = 0.0;
+  }
   case_pressure = p.tank_pressure + p.fault_case_pressure;
   coulomb_friction = p.fault_spool_friction;
   breakaway_friction = p.fault_spool_friction * p.fault_stiction_ratio;

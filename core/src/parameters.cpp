@@ -61,6 +61,7 @@ std::vector<ParameterSpec> make_parameters() {
     {"pump.pressure_moment", "K_carry", "N*m/Pa", 4.1e-7, Range{-1e-4, 1e-4}, "swash moment per unit discharge pressure (+ destrokes)", "N*m/bar", "lbf*in/psi", &P::pressure_moment},
     {"pump.swash_friction", "M_f", "N*m", 5.0, non_negative(1e3), "Coulomb friction moment of the swash cradle", "N*m", "lbf*in", &P::swash_friction},
     {"pump.pistons", "z", "-", 9.0, Range{3.0, 15.0}, "number of pistons", "-", "-", &P::pistons},
+    {"pump.outlet_volume", "V_o", "m^3", 0.1e-3, non_negative(0.1), "oil volume inside the pump from the cylinder ports to the outlet; joins the line at the pump end when the line is given by line.length and line.bore (line.volume includes it)", "cm^3", "in^3", &P::pump_outlet_volume},
     {"pump.flow_ripple", "", "-", 0.0, Range{0.0, 1.0}, "add the kinematic flow ripple of the pistons", "-", "-", nullptr, &P::flow_ripple},
 
     {"bias_spring.rate", "k_b", "N/m", 30e3, non_negative(1e8), "rate of the bias spring", "N/mm", "lbf/in", &P::bias_rate},

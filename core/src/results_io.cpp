@@ -66,9 +66,14 @@ std::vector<TraceColumn> optional_state_columns(const ModelParameters& p) {
     if (port) add("released_air_port", "-", "-", "-");
   }
   if (p.flow_ripple) add("shaft_angle", "rad", "deg", "deg");
-  if (LineElement(p, p.density, 1e-6 * p.viscosity_grade).distributed)
-    out.push_back({"valve_end_pressure", "Pa", "bar", "psi", [](const Sample& s) { return s.valve_end_pressure; }});
+  if (LineElement(p, p.density, 1e-6 * p.viscosity_grade).distributed) out.push_back(valve_end_pressure_column());
   return out;
+}
+
+const TraceColumn& valve_end_pressure_column() {
+  static const TraceColumn column{"valve_end_pressure", "Pa", "bar", "psi",
+                                  [](const Sample& s) { return s.valve_end_pressure; }};
+  return column;
 }
 
 std::string_view column_unit(const TraceColumn& c, UnitSystem units) {

@@ -88,6 +88,7 @@ struct Derived {
   double setting;  // the pressure the spring preload balances
   double line_volume;  // of the lumped line, or of the distributed line's pump-end node
   double line_wall;    // compliance of the line's wall per unit volume, 1/Pa
+  double pump_end_wall;  // the same averaged over the pump-end volume (line and pump outlet)
   double kinematic_viscosity;  // m^2/s, at the oil's temperature
   double case_pressure;  // where the control chamber and the bleed drain
   double coulomb_friction;
@@ -300,7 +301,7 @@ StateOf<T> derivatives(const ModelParameters& p, const Derived& d, const StopMod
   const T into_line = d.line.distributed ? T(d.line.flow_into_line(x)) : T(f.load + f.relief);
   dx[state::discharge_pressure] =
       pressure_rate(p, d, f.line_pressure, air_line, &at_line, T(d.line_volume),
-                    T(f.geometric - f.leakage - f.to_control - into_line + release_line), d.line_wall);
+                    T(f.geometric - f.leakage - f.to_control - into_line + release_line), d.pump_end_wall);
   if (d.line.distributed)
     d.line.rates(
         x, f.line_pressure, T(f.load + f.relief), [&](const T& psi) { return d.cavitation.pressure(psi); },

@@ -41,6 +41,7 @@ struct ModelParameters {
   double pressure_moment = 0;
   double swash_friction = 0;  // N*m, Coulomb moment on the cradle
   double pistons = 0;         // number of pistons
+  double pump_outlet_volume = 0;  // m^3 inside the pump, pistons' ports to outlet (with a line by geometry)
   bool flow_ripple = false;   // kinematic flow ripple of the pistons
   // bias spring
   double bias_rate = 0;

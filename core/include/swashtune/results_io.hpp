@@ -41,6 +41,11 @@ std::string_view column_unit(const TraceColumn& column, UnitSystem units);
 // ripple). They let outside checks compare every state of the model.
 std::vector<TraceColumn> optional_state_columns(const ModelParameters& parameters);
 
+// The pressure at the load valve (a distributed line's far end; the
+// discharge pressure otherwise): among the optional columns when the line
+// is distributed.
+const TraceColumn& valve_end_pressure_column();
+
 // Header name of a column in a unit system, e.g. "discharge_pressure_bar".
 std::string column_header(const TraceColumn& column, UnitSystem units);
 
