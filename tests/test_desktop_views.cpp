@@ -213,6 +213,18 @@ class ViewsTest : public QObject {
     // The slam's surge: the pump end sees the reflected wave on top of the
     // valve end's (about 281 and 263 bar on this line).
     QVERIFY2(discharge_peak > valve_peak + 5.0, qPrintable(QStringLiteral("%1 %2").arg(discharge_peak).arg(valve_peak)));
+
+    // The line's shape cannot change mid-run: typed into the editor, it
+    // starts the run again with it.
+    click_tab(w.sideTabs(), "Parameters");
+    settle();
+    QVERIFY(edit_parameter_cell(w.parameters(), "line.reaches", "6"));
+    settle();
+    QCOMPARE(w.session()->parametersNow().line_reaches, 6.0);
+    QVERIFY(edit_parameter_cell(w.parameters(), "line.model", "lumped"));
+    settle();
+    QCOMPARE(w.session()->parametersNow().line_model, 0.0);
+    QVERIFY(!valve_end_graph()->visible());
   }
 
   // While following, the time axis spans 5 s of wall time at the chosen time scale.

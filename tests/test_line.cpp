@@ -461,3 +461,76 @@ TEST(DistributedLine, InputImpedanceCurveAgainstTheExactLaminarLine) {
     EXPECT_LT(p90, reaches == 8 ? 0.45 : 0.11);
   }
 }
+
+// The line's description and any value that adds or removes a part of the
+// model cannot change during a run: an event on them is refused by name.
+TEST(LineGeometry, EventsCannotReshapeTheLineOrAddAPart) {
+  auto message = [](const std::string& text) {
+    try {
+      parse_scenario(text, "events.toml");
+    } catch (const ScenarioError& e) {
+      return std::string(e.what());
+    }
+    return std::string();
+  };
+  const std::string line = "[line]\nlength = \"3.2 m\"\nbore = \"20 mm\"\nmodel = \"distributed\"\n";
+  const std::string length_event = message(line + "[[events]]\nat = \"0.1 s\"\nset = \"line.length\"\nto = \"4 m\"\n");
+  EXPECT_NE(length_event.find("describes the line, which is fixed during a run"), std::string::npos) << length_event;
+  EXPECT_NE(length_event.find("events.toml:"), std::string::npos) << length_event;
+  const std::string orifice_event =
+      message("[compensator]\ncontrol_orifice = \"none\"\n[[events]]\nat = \"0.1 s\"\nset = "
+              "\"compensator.control_orifice\"\nto = \"2 mm\"\n");
+  EXPECT_NE(orifice_event.find("adds or removes a part of the model"), std::string::npos) << orifice_event;
+  // An event on a value that keeps the parts still loads.
+  EXPECT_EQ(message(line + "[[events]]\nat = \"0.1 s\"\nset = \"load.opening\"\nto = 0.0\n"), "");
+}
+
+// The Jacobian the stiff solver and the stability analysis use is automatic
+// differentiation of the model; with the line's states it must still equal
+// central differences of the right-hand side in the line's rows and
+// columns (a sum started from an
+// automatic-differentiation zero once dropped the friction's derivatives).
+TEST(DistributedLine, JacobianAgreesWithCentralDifferences) {
+  Scenario s = load_scenario(std::string(SWASHTUNE_SOURCE_DIR) + "/scenarios/valve-slam.toml");
+  ModelParameters& p = s.parameters;
+  p.line_length = 3.2;
+  p.line_bore = 0.02;
+  p.line_model = static_cast<double>(LineModel::distributed);
+  p.line_reaches = 4;
+  p.opening = 0.0;  // regulating: every pressure well away from the air's knee at atmospheric
+  const OperatingPoint op = steady_state(p, s.settings);
+  const Derived d(p);
+  State x = op.condition.x;
+  const StopModes free_modes{};
+  const Jacobian jac = jacobian(p, d, free_modes, x);
+  const State scale = state_scale(p);
+  double worst = 0.0;
+  std::pair<int, int> worst_at{-1, -1};
+  for (int j = 0; j < x.size(); ++j) {
+    const double h = 1e-8 * scale[j];  // small: the friction tanh is steep at rest
+    State up = x, down = x;
+    up[j] += h;
+    down[j] -= h;
+    const State column = (derivatives<double>(p, d, free_modes, up) - derivatives<double>(p, d, free_modes, down)) / (2 * h);
+    for (int i = 0; i < x.size(); ++i) {
+      // Every row but the released air's, whose switches between release
+      // and absorption are too sharp for differences.
+      if (i == d.layout.line_air || i == d.layout.chamber_air || i == d.layout.port_air) continue;
+      const double size = std::abs(column[i]) + std::abs(jac(i, j));
+      // Relative to the largest entry of the row, in scaled units.
+      double row = 0.0;
+      for (int k = 0; k < x.size(); ++k) row = std::max(row, std::abs(jac(i, k)) * scale[k]);
+      if (row > 0.0 && size > 0.0) {
+        const double e = std::abs(column[i] - jac(i, j)) * scale[j] / row;
+        if (e > worst) {
+          worst = e;
+          worst_at = {i, j};
+        }
+      }
+    }
+  }
+  std::printf("%d states: worst difference between the automatic and the central-difference Jacobian %.2e "
+              "(of each row's largest scaled entry), at d(rate %d)/d(state %d)\n",
+              static_cast<int>(x.size()), worst, worst_at.first, worst_at.second);
+  EXPECT_LT(worst, 3e-7);  // achieved: 2.9e-8
+}

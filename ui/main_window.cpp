@@ -908,8 +908,9 @@ void MainWindow::applyChange(const QString& key, double value, double ramp, bool
     return;
   }
   const double before = spec->get(session_->parametersNow());
-  if (spec->is_flag()) {
-    // A switch cannot change mid-run: start again with it.
+  if (spec->is_flag() || fixed_during_a_run(session_->parametersNow(), key.toStdString(), value)) {
+    // A switch, the line's shape or a part added or removed cannot change
+    // mid-run: start again with it.
     resetToPresent(std::make_pair(key, value));
     statusBar()->showMessage(tr("%1 changed: the run starts again from the steady state").arg(key), 5000);
   } else {

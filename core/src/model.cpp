@@ -84,28 +84,26 @@ Derived::Derived(const ModelParameters& p) {
 
 namespace {
 
-// Forward-mode automatic differentiation with derivative vectors of N
-// entries (Eigen::Dynamic: any size up to max_states). A fixed N lets the
-// compiler unroll the derivative arithmetic, which dominates the cost of a
-// step, so the common layout sizes get their own instance.
+// Forward-mode automatic differentiation with derivative vectors of a
+// fixed length N >= the number of states n (the unused tail stays zero). A
+// fixed N lets the compiler unroll the derivative arithmetic, which
+// dominates the cost of a step; the common layouts (6 to 11 states) get
+// their own N, larger ones (a distributed line) the next of a few sizes.
+// Never Eigen::Dynamic: a constant of the model (T(area)) would then carry
+// an empty derivative vector, and Eigen's AutoDiff asserts (in debug
+// builds) when an expression adds it to a full one.
 template <int N>
 Jacobian jacobian_of_size(const ModelParameters& p, const Derived& d, const StopModes& modes, const State& x,
                           const double* pump_flow_angle) {
-  using Derivatives = Eigen::Matrix<double, N, 1, 0, (N == Eigen::Dynamic ? max_states : N), 1>;
+  using Derivatives = Eigen::Matrix<double, N, 1>;
   using Dual = Eigen::AutoDiffScalar<Derivatives>;
   const int n = static_cast<int>(x.size());
   StateOf<Dual> xd(n);
-  for (int i = 0; i < n; ++i) xd[i] = Dual(x[i], n, i);
-  const Dual angle(pump_flow_angle ? *pump_flow_angle : 0.0, Derivatives::Zero(n));  // a constant
+  for (int i = 0; i < n; ++i) xd[i] = Dual(x[i], N, i);
+  const Dual angle(pump_flow_angle ? *pump_flow_angle : 0.0, Derivatives::Zero());  // a constant
   const StateOf<Dual> f = derivatives<Dual>(p, d, modes, xd, pump_flow_angle ? &angle : nullptr);
   Jacobian jac(n, n);
-  for (int i = 0; i < n; ++i) {
-    // A rate that does not depend on the state (a constant) carries no derivatives.
-    if (f[i].derivatives().size() == n)
-      jac.row(i) = f[i].derivatives().transpose();
-    else
-      jac.row(i).setZero();
-  }
+  for (int i = 0; i < n; ++i) jac.row(i) = f[i].derivatives().head(n).transpose();
   return jac;
 }
 
@@ -113,9 +111,20 @@ Jacobian jacobian_of_size(const ModelParameters& p, const Derived& d, const Stop
 
 Jacobian jacobian(const ModelParameters& p, const Derived& d, const StopModes& modes, const State& x,
                   const double* pump_flow_angle) {
-  return with_layout_size(static_cast<int>(x.size()), [&](auto size) {
-    return jacobian_of_size<decltype(size)::value>(p, d, modes, x, pump_flow_angle);
-  });
+  const int n = static_cast<int>(x.size());
+  if (n <= 11)
+    return with_layout_size(n, [&](auto size) {
+      constexpr int exact = decltype(size)::value;
+      if constexpr (exact == Eigen::Dynamic)
+        return jacobian_of_size<11>(p, d, modes, x, pump_flow_angle);  // n < 6 does not occur
+      else
+        return jacobian_of_size<exact>(p, d, modes, x, pump_flow_angle);
+    });
+  if (n <= 24) return jacobian_of_size<24>(p, d, modes, x, pump_flow_angle);
+  if (n <= 48) return jacobian_of_size<48>(p, d, modes, x, pump_flow_angle);
+  if (n <= 80) return jacobian_of_size<80>(p, d, modes, x, pump_flow_angle);
+  static_assert(max_states <= 120, "a larger layout needs a larger derivative length here");
+  return jacobian_of_size<120>(p, d, modes, x, pump_flow_angle);
 }
 
 State flow_angle_sensitivity(const ModelParameters& p, const Derived& d, const StopModes& modes, const State& x,

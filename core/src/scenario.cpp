@@ -8,6 +8,7 @@
 #include <string_view>
 #include <vector>
 
+#include "swashtune/model.hpp"
 #include "text_helpers.hpp"
 
 namespace swashtune {
@@ -134,6 +135,25 @@ void sort_events(std::vector<Event>& events) {
 
 // `where` names the event ("demo.toml:14: events[2]"); the offending field is
 // appended to it: "demo.toml:14: events[2].set: unknown parameter ...".
+std::optional<FixedDuringARun> fixed_during_a_run(const ModelParameters& p, const std::string& key, double value) {
+  const ParameterSpec* spec = find_parameter(key);
+  if (!spec) return std::nullopt;
+  const bool line_shape = key.rfind("line.", 0) == 0 && key != "line.tank_pressure" && key != "line.rated_pressure" &&
+                          key != "line.volume";
+  if (spec->is_choice() || line_shape)
+    return FixedDuringARun{false, "\"" + key + "\" describes the line, which is fixed during a run; set it in the "
+                                  "scenario's [line] table"};
+  // An element a value switches on or off (e.g. compensator.control_orifice
+  // from "none") would change the model's states mid-run.
+  ModelParameters after = p;
+  spec->set(after, value);
+  if (std::isfinite(value) && layout_of(after) != layout_of(p))
+    return FixedDuringARun{true, "setting " + key + " to " + detail::format_number(value) +
+                                     " adds or removes a part of the model (and its states) during the run; set it "
+                                     "in the scenario file instead"};
+  return std::nullopt;
+}
+
 void validate_event(const Event& event, const Scenario& scenario, const std::string& where) {
   using detail::format_number;
   const std::string name = where.empty() ? "event" : where;
@@ -152,6 +172,8 @@ void validate_event(const Event& event, const Scenario& scenario, const std::str
     fail("set", "unknown parameter " + target + detail::did_you_mean(event.target, numeric_keys));
   }
   if (spec->is_flag()) fail("set", target + " is an on/off switch; events can change numeric model parameters only");
+  if (const auto why = fixed_during_a_run(scenario.parameters, event.target, event.to))
+    fail(why->starts_with_part ? "to" : "set", why->text);
 
   const std::string unit = spec->unit == "-" ? "" : " " + std::string(spec->unit);
   if (!spec->range.contains(event.to))

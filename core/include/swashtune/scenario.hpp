@@ -2,6 +2,7 @@
 // change parameters during the run. Scenario files (TOML) map onto it.
 #pragma once
 
+#include <optional>
 #include <stdexcept>
 #include <string>
 #include <vector>
@@ -42,6 +43,16 @@ class ScenarioError : public std::runtime_error {
 
 // Orders events by time; events at the same time keep their file order.
 void sort_events(std::vector<Event>& events);
+
+// Why a parameter cannot change during a run (an event, a live change):
+// it describes the line, or the value adds or removes a part of the model
+// and its states. Empty when it can. A front end starts the run again
+// instead.
+struct FixedDuringARun {
+  bool starts_with_part;  // about the value (else about the key)
+  std::string text;
+};
+std::optional<FixedDuringARun> fixed_during_a_run(const ModelParameters& p, const std::string& key, double value);
 
 // Checks an event against the registry and the run (known numeric key, value
 // in range, times not negative). Throws ScenarioError prefixed with `where`.

@@ -147,11 +147,14 @@ struct LineElement {
     for (int j = 0; j < reaches; ++j) {
       const T& q = x[first_flow + j];
       const T downstream = pressure_of(x[first_node + j]);
-      T unsteady(0.0);
-      for (int i = 0; i < friction_terms; ++i) {
+      // Sums start from a term, not from T(0): an automatic-differentiation
+      // zero has no derivatives, and adding into it would drop them.
+      T unsteady = x[first_friction + friction_terms * j] + weight_m[0] * q;
+      dx[first_friction + friction_terms * j] = T(-decay[0] * unsteady);
+      for (int i = 1; i < friction_terms; ++i) {
         const T& z = x[first_friction + friction_terms * j + i];
         const T y = z + weight_m[i] * q;
-        unsteady += y;
+        unsteady = T(unsteady + y);
         dx[first_friction + friction_terms * j + i] = T(-decay[i] * y);
       }
       const T drop = friction_gain * (q + 0.5 * unsteady);
