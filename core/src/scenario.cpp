@@ -133,8 +133,6 @@ void sort_events(std::vector<Event>& events) {
   std::stable_sort(events.begin(), events.end(), [&](const Event& a, const Event& b) { return key(a) < key(b); });
 }
 
-// `where` names the event ("demo.toml:14: events[2]"); the offending field is
-// appended to it: "demo.toml:14: events[2].set: unknown parameter ...".
 std::optional<FixedDuringARun> fixed_during_a_run(const ModelParameters& p, const std::string& key, double value) {
   const ParameterSpec* spec = find_parameter(key);
   if (!spec) return std::nullopt;
@@ -154,6 +152,8 @@ std::optional<FixedDuringARun> fixed_during_a_run(const ModelParameters& p, cons
   return std::nullopt;
 }
 
+// `where` names the event ("demo.toml:14: events[2]"); the offending field is
+// appended to it: "demo.toml:14: events[2].set: unknown parameter ...".
 void validate_event(const Event& event, const Scenario& scenario, const std::string& where) {
   using detail::format_number;
   const std::string name = where.empty() ? "event" : where;
