@@ -161,18 +161,26 @@ class ViewsTest : public QObject {
 
   // A study whose line is distributed draws the pressure at the load valve
   // beside the discharge pressure, with its read-out; a lumped line does not.
-  void valveEndPressureIsDrawnForADistributedLine() {
-    QTemporaryDir dir;
+  // The demo with its 1 L line as a 3.2 m steel tube of 20 mm bore in
+  // `reaches` reaches, written into dir; empty on failure.
+  static QString write_long_line(const QTemporaryDir& dir, int reaches) {
     QFile in(demo);
-    QVERIFY(in.open(QIODevice::ReadOnly));
+    if (!in.open(QIODevice::ReadOnly)) return {};
     QString text = QString::fromUtf8(in.readAll());
+    if (!text.contains(QStringLiteral("volume = \"1 L\""))) return {};
     text.replace(QStringLiteral("volume = \"1 L\""),
-                 QStringLiteral("model = \"distributed\"\nlength = \"3.2 m\"\nbore = \"20 mm\"\nreaches = 4"));
+                 QStringLiteral("model = \"distributed\"\nlength = \"3.2 m\"\nbore = \"20 mm\"\nreaches = %1").arg(reaches));
     const QString path = dir.filePath(QStringLiteral("long-line.toml"));
     QFile out(path);
-    QVERIFY(out.open(QIODevice::WriteOnly));
+    if (!out.open(QIODevice::WriteOnly)) return {};
     out.write(text.toUtf8());
-    out.close();
+    return path;
+  }
+
+  void valveEndPressureIsDrawnForADistributedLine() {
+    QTemporaryDir dir;
+    const QString path = write_long_line(dir, 4);
+    QVERIFY(!path.isEmpty());
 
     MainWindow w(quiet());
     QVERIFY(show_active(w));
@@ -225,6 +233,52 @@ class ViewsTest : public QObject {
     settle();
     QCOMPARE(w.session()->parametersNow().line_model, 0.0);
     QVERIFY(!valve_end_graph()->visible());
+  }
+
+  // The circuit draws a distributed line in the colours of the pressures
+  // along it: read back from the drawn pixels at its nodes while the slam's
+  // wave is in the line, pump end and valve end apart.
+  void circuitShowsThePressureAlongTheLine() {
+    QTemporaryDir dir;
+    const QString path = write_long_line(dir, 6);
+    QVERIFY(!path.isEmpty());
+    MainWindow w(quiet());
+    QVERIFY(show_active(w));
+    w.openFile(demo);
+    click_tab(w.centreTabs(), "Circuit");
+    settle();
+    CircuitView* c = w.circuit();
+    QVERIFY(!c->lineIsDistributed());  // the demo's lumped line: one pressure
+    QCOMPARE(c->lineColour(CircuitView::Line::valve_end), c->lineColour(CircuitView::Line::discharge));
+
+    w.openFile(path);
+    settle();
+    QTest::mouseClick(w.controls()->closeFastButton(), Qt::LeftButton);
+    // 3.2 m at about 1300 m/s: the front of the wave takes 2.5 ms to reach the pump.
+    QVERIFY(w.session()->advanceNow(0.0045));
+    w.refreshNow();
+    settle();
+    QVERIFY(c->lineIsDistributed());
+    const Sample now = w.session()->latest();
+    const double pump_end = column_value(now, "discharge_pressure"), valve_end = now.valve_end_pressure;
+    QVERIFY2(std::abs(valve_end - pump_end) > 10e5, qPrintable(QStringLiteral("%1 %2").arg(pump_end).arg(valve_end)));
+    QCOMPARE(c->alongLineColour(0.0), pressure_colour(pump_end / c->scaleTop()));
+    QCOMPARE(c->alongLineColour(1.0), pressure_colour(valve_end / c->scaleTop()));
+    QCOMPARE(c->lineColour(CircuitView::Line::valve_end), pressure_colour(valve_end / c->scaleTop()));
+    const QImage drawn = c->grab().toImage();
+    const double ratio = drawn.devicePixelRatio();
+    auto pixel_at = [&](double share) {
+      const QPointF at = c->alongLinePoint(share) * ratio;
+      return drawn.pixelColor(static_cast<int>(at.x()), static_cast<int>(at.y()));
+    };
+    auto near = [](const QColor& a, const QColor& b) {
+      return std::abs(a.red() - b.red()) <= 3 && std::abs(a.green() - b.green()) <= 3 && std::abs(a.blue() - b.blue()) <= 3;
+    };
+    for (int k = 1; k < 6; ++k) {
+      const QColor want = c->alongLineColour(k / 6.0), got = pixel_at(k / 6.0);
+      QVERIFY2(near(got, want), qPrintable(QStringLiteral("node %1: drawn %2, pressure's %3").arg(k).arg(got.name(), want.name())));
+    }
+    QVERIFY(!near(c->alongLineColour(0.0), c->alongLineColour(1.0)));
   }
 
   // While following, the time axis spans 5 s of wall time at the chosen time scale.

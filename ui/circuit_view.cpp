@@ -1,5 +1,6 @@
 #include "circuit_view.hpp"
 
+#include <QLinearGradient>
 #include <QPainter>
 #include <QPainterPath>
 #include <algorithm>
@@ -7,6 +8,7 @@
 
 #include "plot_style.hpp"
 #include "pressure_scale.hpp"
+#include "swashtune/model.hpp"
 #include "trace_columns.hpp"
 
 namespace swashtune::ui {
@@ -20,6 +22,9 @@ constexpr double kTankY = 505.0;  // where the tank symbols sit
 constexpr double kLine = 5.0;     // working lines
 constexpr double kPilot = 2.5;    // pilot and drain lines, dashed (ISO 1219-1)
 constexpr double kPi = 3.14159265358979323846;
+// A distributed line runs along the main line between these x (canvas units).
+constexpr double kLineFromX = 420.0;
+constexpr double kLineToX = 600.0;
 
 double finite_or(double v, double fallback) { return std::isfinite(v) ? v : fallback; }
 
@@ -120,6 +125,11 @@ void CircuitView::setState(const Sample& now, const ModelParameters& p) {
   now_ = now;
   p_ = p;
   scale_top_ = pressure_scale_top(p.setting, p.relief_setting, p.relief_override);
+  along_.clear();
+  if (now.x.size() > 0 && now.x.size() <= max_states) {
+    const Derived d(p);
+    if (d.layout.size == now.x.size()) along_ = line_pressures(d, State(now.x));
+  }
   update();
 }
 
@@ -131,12 +141,41 @@ QColor CircuitView::lineColour(Line line) const {
     case Line::discharge:
     case Line::pilot:
       return pressure_colour(fraction(column_value(*now_, "discharge_pressure")));
+    case Line::valve_end:
+      return pressure_colour(fraction(now_->valve_end_pressure));
     case Line::control:
       return pressure_colour(fraction(column_value(*now_, "control_pressure")));
     case Line::tank:
       return pressure_colour(fraction(p_.tank_pressure));
   }
   return pressure_colour(0.0);
+}
+
+QColor CircuitView::alongLineColour(double share) const {
+  if (along_.empty()) return lineColour(Line::discharge);
+  // The pressure between the nodes, linear along each reach.
+  const double at = std::clamp(share, 0.0, 1.0) * static_cast<double>(along_.size() - 1);
+  const std::size_t k = std::min(static_cast<std::size_t>(at), along_.size() - 1);
+  const double w = at - static_cast<double>(k);
+  const double pressure = k + 1 < along_.size() ? (1.0 - w) * along_[k] + w * along_[k + 1] : along_[k];
+  return pressure_colour(fraction(pressure));
+}
+
+int CircuitView::readoutBand() const { return std::max(70, static_cast<int>(height() * 0.2)); }
+
+QTransform CircuitView::canvasTransform() const {
+  const int band = readoutBand();
+  const QRectF area(0, band + 4, width(), height() - band - 4);
+  const double scale = std::min(area.width() / kCanvasW, area.height() / kCanvasH);
+  QTransform t;
+  t.translate(area.left() + (area.width() - kCanvasW * scale) / 2, area.top() + (area.height() - kCanvasH * scale) / 2);
+  t.scale(scale, scale);
+  return t;
+}
+
+QPointF CircuitView::alongLinePoint(double share) const {
+  const double s = std::clamp(share, 0.0, 1.0);
+  return canvasTransform().map(QPointF(kLineFromX + s * (kLineToX - kLineFromX), kMainY));
 }
 
 double CircuitView::spoolShift() const {
@@ -179,7 +218,7 @@ void CircuitView::paintEvent(QPaintEvent*) {
   g.fillRect(rect(), pal.brush(QPalette::Window));
 
   // ---- the read-outs: big enough to read across a room ----
-  const int band = std::max(70, static_cast<int>(height() * 0.2));
+  const int band = readoutBand();
   const QString captions[] = {tr("discharge pressure"), tr("pump flow"), tr("swash angle")};
   QString extras[3];
   if (now_) {
@@ -222,19 +261,45 @@ void CircuitView::paintEvent(QPaintEvent*) {
   }
 
   // ---- the diagram ----
-  const QRectF area(0, band + 4, width(), height() - band - 4);
-  const double scale = std::min(area.width() / kCanvasW, area.height() / kCanvasH);
   g.save();
-  g.translate(area.left() + (area.width() - kCanvasW * scale) / 2, area.top() + (area.height() - kCanvasH * scale) / 2);
-  g.scale(scale, scale);
+  g.setTransform(canvasTransform(), true);
   Symbols s{g, text};
   const QColor pd = lineColour(Line::discharge), pc = lineColour(Line::control), tank = lineColour(Line::tank);
+  const QColor pv = lineColour(Line::valve_end);
+  const bool waves = lineIsDistributed();
 
-  // Discharge line: pump outlet, the main line, branches to gauge, relief and load valve.
+  // Discharge line: pump outlet, the main line, branches to gauge, relief and
+  // load valve. A distributed line is drawn wider between the pump-end and
+  // valve-end branches, in the colour of the pressure along it.
   const QPointF pump(330, 330);
   const double r = 50;
   s.path({{pump.x(), pump.y() - r}, {pump.x(), kMainY}}, pd);
-  s.path({{60, kMainY}, {820, kMainY}, {820, 222}}, pd);
+  if (waves) {
+    s.path({{60, kMainY}, {kLineFromX, kMainY}}, pd);
+    // One stroke with a gradient: a stop at each node, linear between.
+    QLinearGradient along(QPointF(kLineFromX, kMainY), QPointF(kLineToX, kMainY));
+    const int nodes = static_cast<int>(along_.size());
+    for (int k = 0; k < nodes; ++k) along.setColorAt(k / double(nodes - 1), pressure_colour(fraction(along_[k])));
+    g.setPen(QPen(QBrush(along), 2.0 * kLine, Qt::SolidLine, Qt::FlatCap));
+    g.drawLine(QPointF(kLineFromX, kMainY), QPointF(kLineToX, kMainY));
+    s.path({{kLineToX, kMainY}, {820, kMainY}, {820, 222}}, pv);
+    const QString wall = p_.line_wall == static_cast<double>(LineWall::hose)    ? tr("hose")
+                         : p_.line_wall == static_cast<double>(LineWall::steel) ? tr("steel tube")
+                                                                                : tr("rigid tube");
+    const int digits = units_.system == UnitSystem::us ? 0 : 1;
+    s.label({(kLineFromX + kLineToX) / 2, kMainY + 14},
+            tr("line %1 m, %2 %3 bore, %4\npump end %5, valve end %6 %7")
+                .arg(p_.line_length, 0, 'f', 2)
+                .arg(units_.length.to_display(p_.line_bore), 0, 'f', units_.system == UnitSystem::us ? 2 : 1)
+                .arg(units_.length.unit)
+                .arg(wall)
+                .arg(units_.pressure.to_display(along_.front()), 0, 'f', digits)
+                .arg(units_.pressure.to_display(along_.back()), 0, 'f', digits)
+                .arg(units_.pressure.unit),
+            Qt::AlignHCenter | Qt::AlignTop, 12);
+  } else {
+    s.path({{60, kMainY}, {820, kMainY}, {820, 222}}, pd);
+  }
   s.junction({pump.x(), kMainY}, pd);
   // Compensator supply (P) from the line, and the pilot sensing discharge pressure.
   const double comp_cx = 190, comp_top = 190, box = 64, box_h = 48;
@@ -336,7 +401,7 @@ void CircuitView::paintEvent(QPaintEvent*) {
           Qt::AlignLeft | Qt::AlignVCenter, 13);
 
   // Pressure gauge on the line, its needle at the pressure.
-  const QPointF gauge(470, 56);
+  const QPointF gauge(waves ? 385 : 470, 56);
   s.path({{gauge.x(), kMainY}, {gauge.x(), gauge.y() + 28}}, pd);
   s.junction({gauge.x(), kMainY}, pd);
   g.setPen(QPen(text, 2.5));
@@ -350,15 +415,15 @@ void CircuitView::paintEvent(QPaintEvent*) {
   // Relief valve: normally closed, spring-loaded, opened by its inlet pressure.
   const QPointF relief(610, 270);
   const bool fitted = std::isfinite(p_.relief_setting);
-  s.path({{relief.x(), kMainY}, {relief.x(), relief.y() - 28}}, pd);
-  s.junction({relief.x(), kMainY}, pd);
+  s.path({{relief.x(), kMainY}, {relief.x(), relief.y() - 28}}, pv);
+  s.junction({relief.x(), kMainY}, pv);
   g.setPen(QPen(text, 2.0));
   g.setBrush(base);
   g.drawRect(QRectF(relief.x() - 28, relief.y() - 28, 56, 56));
   g.setBrush(Qt::NoBrush);
   s.line({relief.x() + 8, relief.y() - 22}, {relief.x() + 8, relief.y() + 16}, text, 2.0);  // offset flow path
   s.arrowHead({relief.x() + 8, relief.y() + 24}, kPi / 2, 10, text);
-  s.path({{relief.x(), relief.y() - 40}, {relief.x() - 40, relief.y() - 40}, {relief.x() - 40, relief.y()}, {relief.x() - 28, relief.y()}}, pd, kPilot, true);
+  s.path({{relief.x(), relief.y() - 40}, {relief.x() - 40, relief.y() - 40}, {relief.x() - 40, relief.y()}, {relief.x() - 28, relief.y()}}, pv, kPilot, true);
   s.spring({relief.x() + 28, relief.y()}, {relief.x() + 70, relief.y()}, 8, 4);
   s.adjustable({relief.x() + 49, relief.y()}, 20, 50);
   s.path({{relief.x(), relief.y() + 28}, {relief.x(), kTankY}}, tank);

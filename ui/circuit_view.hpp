@@ -7,8 +7,10 @@
 #pragma once
 
 #include <QString>
+#include <QTransform>
 #include <QWidget>
 #include <optional>
+#include <vector>
 
 #include "display_units.hpp"
 #include "swashtune/parameters.hpp"
@@ -25,8 +27,16 @@ class CircuitView : public QWidget {
   // The present state and the parameters in force.
   void setState(const Sample& now, const ModelParameters& p);
 
-  enum class Line { discharge, control, pilot, tank };
+  // discharge: the pump end, what the compensator senses; valve_end: where
+  // the load and relief valves take their flow (the same for a lumped line).
+  enum class Line { discharge, valve_end, control, pilot, tank };
   QColor lineColour(Line line) const;
+  // A distributed line is drawn with the pressure along it: the colour at a
+  // share of its length from the pump end (0) to the valve end (1), and
+  // where that point is drawn, in widget coordinates.
+  bool lineIsDistributed() const { return along_.size() > 1; }
+  QColor alongLineColour(double share) const;
+  QPointF alongLinePoint(double share) const;
   // Where the moving parts are drawn: the compensator's valve envelope as a
   // share of one box width from the vent position (0) to the supply position
   // (1); the swash as a share of full stroke; the gauge needle's angle in
@@ -46,11 +56,14 @@ class CircuitView : public QWidget {
 
  private:
   double fraction(double pressure) const;
+  QTransform canvasTransform() const;  // the diagram's canvas to the widget
+  int readoutBand() const;
 
   DisplayUnits units_ = DisplayUnits::make(UnitSystem::metric);
   std::optional<Sample> now_;
   ModelParameters p_ = default_parameters();
   double scale_top_ = 250e5;
+  std::vector<double> along_;  // pressures along the line, pump end first (one for a lumped line)
 };
 
 }  // namespace swashtune::ui

@@ -296,7 +296,7 @@ MainWindow::MainWindow(Options options, QWidget* parent)
   connect(session_, &SessionController::sessionStarted, this, [this] {
     traces_->clear();
     const ModelParameters present = session_->parametersNow();
-    traces_->setValveEndShown(LineElement(present, present.density, 1e-6 * present.viscosity_grade).distributed);
+    traces_->setValveEndShown(has_distributed_line(present));
     controls_->showParameters(present);
     editor_->setValues(present);
     troubleshooting_->showParameters(present);

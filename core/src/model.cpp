@@ -141,4 +141,11 @@ State flow_angle_sensitivity(const ModelParameters& p, const Derived& d, const S
   return out;
 }
 
+std::vector<double> line_pressures(const Derived& d, const State& x) {
+  std::vector<double> along{d.cavitation.pressure(x[state::discharge_pressure])};
+  if (!d.line.distributed) return along;
+  for (int k = 0; k < d.line.reaches; ++k) along.push_back(d.cavitation.pressure(x[d.line.first_node + k]));
+  return along;
+}
+
 }  // namespace swashtune

@@ -66,7 +66,7 @@ std::vector<TraceColumn> optional_state_columns(const ModelParameters& p) {
     if (port) add("released_air_port", "-", "-", "-");
   }
   if (p.flow_ripple) add("shaft_angle", "rad", "deg", "deg");
-  if (LineElement(p, p.density, 1e-6 * p.viscosity_grade).distributed) out.push_back(valve_end_pressure_column());
+  if (has_distributed_line(p)) out.push_back(valve_end_pressure_column());
   return out;
 }
 

@@ -11,6 +11,7 @@
 #include <Eigen/Core>
 #include <algorithm>
 #include <cmath>
+#include <vector>
 
 #include "swashtune/fluid.hpp"
 #include "swashtune/model/control_orifice.hpp"
@@ -355,6 +356,11 @@ State flow_angle_sensitivity(const ModelParameters& p, const Derived& d, const S
 inline Flows flows(const ModelParameters& p, const State& x) { return flows<double>(p, Derived(p), x); }
 
 // A state of the layout's size with every entry zero.
+// The pressures along the discharge line, pump end first, the vapour floor
+// applied: the N + 1 nodes of a distributed line (evenly spaced), or the
+// one pressure of a lumped line. For drawing the line.
+std::vector<double> line_pressures(const Derived& d, const State& x);
+
 inline State zero_state(const Layout& layout) { return State::Zero(layout.size); }
 
 }  // namespace swashtune

@@ -43,6 +43,13 @@ namespace swashtune {
 enum class LineModel : int { lumped = 0, distributed = 1 };
 enum class LineWall : int { rigid = 0, steel = 1, hose = 2 };
 
+// Whether the parameters ask for waves along the line (its geometry given
+// and line.model = "distributed"): decides the layout and the trace columns.
+inline bool has_distributed_line(const ModelParameters& p) {
+  return p.line_length > 0.0 && p.line_bore > 0.0 &&
+         static_cast<LineModel>(static_cast<int>(p.line_model)) == LineModel::distributed;
+}
+
 struct LineElement {
   // From tests/python/fit_friction_weights.py (see above).
   static constexpr int friction_terms = 5;
@@ -65,8 +72,7 @@ struct LineElement {
   LineElement() = default;
   // density and kinematic viscosity (m^2/s) of the oil at its temperature.
   LineElement(const ModelParameters& p, double density, double kinematic_viscosity)
-      : geometry(p.line_length > 0.0 && p.line_bore > 0.0),
-        distributed(geometry && static_cast<LineModel>(static_cast<int>(p.line_model)) == LineModel::distributed) {
+      : geometry(p.line_length > 0.0 && p.line_bore > 0.0), distributed(has_distributed_line(p)) {
     if (!geometry) return;
     length = p.line_length;
     area = 0.25 * 3.14159265358979323846 * p.line_bore * p.line_bore;
