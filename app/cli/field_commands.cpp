@@ -11,6 +11,7 @@
 #include <vector>
 
 #include "shown_units.hpp"
+#include "study_loading.hpp"
 #include "swashtune/atomic_file.hpp"
 #include "swashtune/datasheet.hpp"
 #include "swashtune/field_analysis.hpp"
@@ -196,13 +197,6 @@ int print_analysis(const FieldAnalysis& a) {
   }
   std::printf("%s\n", safety_notice_recording);
   return 0;
-}
-
-// load_scenario, with its warnings on stderr.
-Scenario load_study(const std::string& path) {
-  Scenario scenario = load_scenario(path);
-  for (const std::string& warning : scenario.warnings) std::cerr << "warning: " << warning << "\n";
-  return scenario;
 }
 
 std::vector<std::string> split_list(const std::string& text) {

@@ -115,9 +115,11 @@ DataSheetFigures datasheet_figures(const Scenario& scenario, const DataSheetTest
         first = false;
       }
       const auto crossing = [&](double level) { return t_before + (level - f_before) / (f - f_before) * (x.time - t_before); };
-      if (!out.off_stroke && x.time > test.closing_at && x.time <= reopen_at && f < 0.1)
+      // Only a crossing counts: a swash already below 10 % (or above 90 %)
+      // when the valve moves gives no time (and no division by a flat step).
+      if (!out.off_stroke && x.time > test.closing_at && x.time <= reopen_at && f < 0.1 && f_before >= 0.1)
         out.off_stroke = std::max(crossing(0.1), test.closing_at) - test.closing_at;
-      if (!out.on_stroke && x.time > reopen_at && f > 0.9)
+      if (!out.on_stroke && x.time > reopen_at && f > 0.9 && f_before <= 0.9)
         out.on_stroke = std::max(crossing(0.9), reopen_at) - reopen_at;
       t_before = x.time;
       f_before = f;

@@ -3,6 +3,7 @@
 #include <array>
 #include <cmath>
 #include <limits>
+#include <optional>
 #include <sstream>
 
 namespace swashtune {
@@ -27,6 +28,17 @@ ParameterSpec with_word(ParameterSpec spec, std::string_view word, double value)
   return spec;
 }
 
+// A design parameter the sensitivity and tuning tools vary, by 10 % of its
+// value or, with an amount, by that much in its stored unit.
+ParameterSpec tunable(ParameterSpec spec, std::optional<double> amount = std::nullopt) {
+  spec.tunable = true;
+  if (amount) {
+    spec.tuning_relative = false;
+    spec.tuning_change = *amount;
+  }
+  return spec;
+}
+
 // A registry row whose value is one of a few words (stored as numbers).
 ParameterSpec with_choices(ParameterSpec spec, std::array<ParameterSpec::Choice, 3> choices) {
   spec.choices = choices;
@@ -46,10 +58,10 @@ std::vector<ParameterSpec> make_parameters() {
     {"fluid.saturation_pressure", "p_sat", "Pa", 101325.0, Range{1e4, 1e6}, "absolute pressure at which the oil was saturated with air (the tank's)", "bar", "psi", &P::saturation_pressure},
     {"fluid.air_release_time", "tau_r", "s", 0.05, Range{1e-4, 100.0}, "time constant of dissolved air coming out below saturation", "ms", "ms", &P::air_release_time},
     {"fluid.air_absorption_time", "tau_a", "s", 2.0, Range{1e-3, 1e4}, "time constant of released air dissolving again above saturation", "s", "s", &P::air_absorption_time},
-    {"fluid.viscosity_grade", "nu_40", "mm^2/s", 46.0, Range{2.5, 1500.0}, "kinematic viscosity at 40 degC (ISO 3448 grade, e.g. 32, 46, 68)", "mm^2/s", "mm^2/s", &P::viscosity_grade},
+    tunable({"fluid.viscosity_grade", "nu_40", "mm^2/s", 46.0, Range{2.5, 1500.0}, "kinematic viscosity at 40 degC (ISO 3448 grade, e.g. 32, 46, 68)", "mm^2/s", "mm^2/s", &P::viscosity_grade}),
     {"fluid.viscosity_index", "VI", "-", 100.0, Range{-50.0, 400.0}, "viscosity index (ASTM D2270); sets the 100 degC viscosity unless that is given", "-", "-", &P::viscosity_index},
     with_word({"fluid.viscosity_at_100C", "nu_100", "mm^2/s", 0.0, Range{2.0, 500.0}, "kinematic viscosity at 100 degC (\"from index\": from grade and viscosity index)", "mm^2/s", "mm^2/s", &P::viscosity_at_100c}, "from index", 0.0),
-    {"fluid.temperature", "T", "degC", 50.0, Range{-40.0, 150.0}, "oil temperature; coefficients of leakage and damping are given at 40 degC", "degC", "degF", &P::temperature},
+    tunable({"fluid.temperature", "T", "degC", 50.0, Range{-40.0, 150.0}, "oil temperature; coefficients of leakage and damping are given at 40 degC", "degC", "degF", &P::temperature}, 10.0),
     {"fluid.thermal_expansion", "alpha_T", "K^-1", 7e-4, Range{0.0, 2e-3}, "volumetric thermal expansion of the oil (density is given at 40 degC)", "K^-1", "K^-1", &P::thermal_expansion},
 
     {"pump.displacement", "D_max", "m^3/rev", 45e-6, positive(1e-2), "displacement at full stroke", "cm^3/rev", "in^3/rev", &P::displacement},
@@ -57,44 +69,44 @@ std::vector<ParameterSpec> make_parameters() {
     {"pump.max_swash_angle", "a_max", "rad", 17.0 * deg, Range{0.5 * deg, 30.0 * deg}, "swash angle at full stroke", "deg", "deg", &P::max_swash_angle},
     {"pump.leakage_coefficient", "K_leak", "m^3/(s*Pa)", 1.29e-12, non_negative(1e-9), "internal leakage per unit discharge pressure", "L/min/bar", "gpm/psi", &P::leakage_coefficient},
     {"pump.swash_inertia", "J", "kg*m^2", 0.002, positive(10.0), "moment of inertia of the swashplate", "kg*m^2", "lb*in^2", &P::swash_inertia},
-    {"pump.swash_damping", "c_a", "N*m*s/rad", 3.0, non_negative(1e5), "viscous damping of the swashplate", "N*m*s/rad", "lbf*in*s/rad", &P::swash_damping},
+    tunable({"pump.swash_damping", "c_a", "N*m*s/rad", 3.0, non_negative(1e5), "viscous damping of the swashplate", "N*m*s/rad", "lbf*in*s/rad", &P::swash_damping}),
     {"pump.pressure_moment", "K_carry", "N*m/Pa", 4.1e-7, Range{-1e-4, 1e-4}, "swash moment per unit discharge pressure (+ destrokes)", "N*m/bar", "lbf*in/psi", &P::pressure_moment},
     {"pump.swash_friction", "M_f", "N*m", 5.0, non_negative(1e3), "Coulomb friction moment of the swash cradle", "N*m", "lbf*in", &P::swash_friction},
     {"pump.pistons", "z", "-", 9.0, Range{3.0, 15.0}, "number of pistons", "-", "-", &P::pistons},
-    {"pump.outlet_volume", "V_o", "m^3", 0.1e-3, non_negative(0.1), "oil volume inside the pump from the cylinder ports to the outlet; joins the line at the pump end when the line is given by line.length and line.bore (line.volume includes it)", "cm^3", "in^3", &P::pump_outlet_volume},
+    tunable({"pump.outlet_volume", "V_o", "m^3", 0.1e-3, non_negative(0.1), "oil volume inside the pump from the cylinder ports to the outlet; joins the line at the pump end when the line is given by line.length and line.bore (line.volume includes it)", "cm^3", "in^3", &P::pump_outlet_volume}),
     {"pump.flow_ripple", "", "-", 0.0, Range{0.0, 1.0}, "add the kinematic flow ripple of the pistons", "-", "-", nullptr, &P::flow_ripple},
 
-    {"bias_spring.rate", "k_b", "N/m", 30e3, non_negative(1e8), "rate of the bias spring", "N/mm", "lbf/in", &P::bias_rate},
-    {"bias_spring.force_at_full_stroke", "F_b,full", "N", 300.0, non_negative(1e6), "bias spring force at full stroke", "N", "lbf", &P::bias_force_at_full_stroke},
+    tunable({"bias_spring.rate", "k_b", "N/m", 30e3, non_negative(1e8), "rate of the bias spring", "N/mm", "lbf/in", &P::bias_rate}),
+    tunable({"bias_spring.force_at_full_stroke", "F_b,full", "N", 300.0, non_negative(1e6), "bias spring force at full stroke", "N", "lbf", &P::bias_force_at_full_stroke}),
     {"bias_spring.arm", "r_b", "m", 0.05, positive(1.0), "lever arm of the bias spring on the swashplate", "mm", "in", &P::bias_arm},
 
-    {"control_piston.diameter", "d_c", "m", 0.028, positive(0.5), "control piston diameter", "mm", "in", &P::control_piston_diameter},
+    tunable({"control_piston.diameter", "d_c", "m", 0.028, positive(0.5), "control piston diameter", "mm", "in", &P::control_piston_diameter}),
     {"control_piston.arm", "r_c", "m", 0.05, positive(1.0), "lever arm of the control piston on the swashplate", "mm", "in", &P::control_piston_arm},
-    {"control_piston.dead_volume", "V_c0", "m^3", 15e-6, positive(1e-2), "control chamber volume at full stroke", "cm^3", "in^3", &P::control_dead_volume},
+    tunable({"control_piston.dead_volume", "V_c0", "m^3", 15e-6, positive(1e-2), "control chamber volume at full stroke", "cm^3", "in^3", &P::control_dead_volume}),
 
-    {"compensator.setting", "p_set", "Pa", 210e5, non_negative(1e9), "compensator setting (spring preload over the sensing area)", "bar", "psi", &P::setting},
-    {"compensator.spool_diameter", "d_s", "m", 3.2e-3, positive(0.1), "diameter of the sensing area", "mm", "in", &P::spool_diameter},
-    {"compensator.spring_rate", "k_s", "N/m", 65e3, non_negative(1e9), "rate of the compensator spring", "N/mm", "lbf/in", &P::spool_spring_rate},
+    tunable({"compensator.setting", "p_set", "Pa", 210e5, non_negative(1e9), "compensator setting (spring preload over the sensing area)", "bar", "psi", &P::setting}),
+    tunable({"compensator.spool_diameter", "d_s", "m", 3.2e-3, positive(0.1), "diameter of the sensing area", "mm", "in", &P::spool_diameter}),
+    tunable({"compensator.spring_rate", "k_s", "N/m", 65e3, non_negative(1e9), "rate of the compensator spring", "N/mm", "lbf/in", &P::spool_spring_rate}),
     {"compensator.spool_mass", "m_s", "kg", 0.005, positive(10.0), "moving mass of the spool", "g", "lb", &P::spool_mass},
-    {"compensator.spool_damping", "b_s", "N*s/m", 30.0, non_negative(1e6), "viscous damping of the spool", "N*s/m", "lbf*s/in", &P::spool_damping},
+    tunable({"compensator.spool_damping", "b_s", "N*s/m", 30.0, non_negative(1e6), "viscous damping of the spool", "N*s/m", "lbf*s/in", &P::spool_damping}),
     {"compensator.spool_travel", "x_max", "m", 1.0e-3, positive(0.05), "spool travel either side of centre", "mm", "in", &P::spool_travel},
-    {"compensator.port_width", "w", "m", 0.008, positive(0.5), "metering area gradient (port width)", "mm", "in", &P::port_width},
-    {"compensator.underlap", "u", "m", 0.08e-3, Range{-0.05, 0.05}, "underlap of the metering edges (negative: overlap)", "mm", "in", &P::underlap},
+    tunable({"compensator.port_width", "w", "m", 0.008, positive(0.5), "metering area gradient (port width)", "mm", "in", &P::port_width}),
+    tunable({"compensator.underlap", "u", "m", 0.08e-3, Range{-0.05, 0.05}, "underlap of the metering edges (negative: overlap)", "mm", "in", &P::underlap}),
     {"compensator.discharge_coefficient", "Cd", "-", 0.7, Range{0.0, 1.0, true, false}, "discharge coefficient of the metering edges", "-", "-", &P::spool_discharge_coefficient},
     {"compensator.flow_forces", "", "-", 1.0, Range{0.0, 1.0}, "include steady flow forces on the spool", "-", "-", nullptr, &P::flow_forces},
-    {"compensator.bleed_orifice", "d_b", "m", 1.0e-3, non_negative(0.05), "diameter of the fixed bleed from control chamber to case (0: none)", "mm", "in", &P::bleed_diameter},
-    with_word({"compensator.control_orifice", "d_o", "m", 1.5e-3, positive(0.05), "orifice in the control line between the spool's control port and the control piston (\"none\": open passage)", "mm", "in", &P::control_orifice}, "none", inf),
+    tunable({"compensator.bleed_orifice", "d_b", "m", 1.0e-3, non_negative(0.05), "diameter of the fixed bleed from control chamber to case (0: none)", "mm", "in", &P::bleed_diameter}),
+    tunable(with_word({"compensator.control_orifice", "d_o", "m", 1.5e-3, positive(0.05), "orifice in the control line between the spool's control port and the control piston (\"none\": open passage)", "mm", "in", &P::control_orifice}, "none", inf)),
     {"compensator.orifice_discharge_coefficient", "Cd_o", "-", 0.7, Range{0.0, 1.0, true, false}, "discharge coefficient of the control orifice", "-", "-", &P::orifice_discharge_coefficient},
-    {"compensator.port_volume", "V_k", "m^3", 1e-6, positive(1e-3), "oil volume between the spool's control port and the control orifice", "cm^3", "in^3", &P::port_volume},
+    tunable({"compensator.port_volume", "V_k", "m^3", 1e-6, positive(1e-3), "oil volume between the spool's control port and the control orifice", "cm^3", "in^3", &P::port_volume}),
 
     with_word({"relief.setting", "p_r", "Pa", 250e5, positive(1e9), "cracking pressure of the relief valve on the discharge line (\"none\": no valve)", "bar", "psi", &P::relief_setting}, "none", inf),
     {"relief.override", "dp_r", "Pa", 15e5, positive(1e8), "pressure rise above cracking at the rated flow", "bar", "psi", &P::relief_override},
     {"relief.rated_flow", "Q_r", "m^3/s", 100.0 / 60000.0, positive(1.0), "flow of the relief valve at cracking pressure plus override", "L/min", "gpm", &P::relief_rated_flow},
 
     with_choices({"line.model", "", "-", 0.0, Range{0.0, 1.0}, "\"lumped\": the line is one volume (v1); \"distributed\": pressure waves along it (needs line.length and line.bore)", "-", "-", &P::line_model}, {{{"lumped", 0.0}, {"distributed", 1.0}}}),
-    {"line.volume", "V_d", "m^3", 1.0e-3, positive(10.0), "oil volume between pump and load valve (when line.length and line.bore are not given)", "L", "in^3", &P::line_volume},
-    with_word({"line.length", "L", "m", 0.0, positive(1e4), "length of the discharge line from the pump to the load valve (\"none\": the line is given by line.volume)", "m", "ft", &P::line_length}, "none", 0.0),
-    with_word({"line.bore", "d_l", "m", 0.0, positive(1.0), "inner diameter of the discharge line (\"none\": given by line.volume)", "mm", "in", &P::line_bore}, "none", 0.0),
+    tunable({"line.volume", "V_d", "m^3", 1.0e-3, positive(10.0), "oil volume between pump and load valve (when line.length and line.bore are not given)", "L", "in^3", &P::line_volume}),
+    tunable(with_word({"line.length", "L", "m", 0.0, positive(1e4), "length of the discharge line from the pump to the load valve (\"none\": the line is given by line.volume)", "m", "ft", &P::line_length}, "none", 0.0)),
+    tunable(with_word({"line.bore", "d_l", "m", 0.0, positive(1.0), "inner diameter of the discharge line (\"none\": given by line.volume)", "mm", "in", &P::line_bore}, "none", 0.0)),
     with_choices({"line.wall", "", "-", 1.0, Range{0.0, 2.0}, "wall of the line: \"steel\" tube (line.wall_thickness, line.wall_modulus), \"hose\" (line.hose_expansion) or \"rigid\"", "-", "-", &P::line_wall}, {{{"steel", 1.0}, {"hose", 2.0}, {"rigid", 0.0}}}),
     {"line.wall_thickness", "e", "m", 2.0e-3, positive(0.1), "wall thickness of a steel tube", "mm", "in", &P::wall_thickness},
     {"line.wall_modulus", "E", "Pa", 206e9, Range{1e8, 1e12}, "Young's modulus of a tube's wall (steel about 206 GPa)", "GPa", "psi", &P::wall_modulus},

@@ -484,4 +484,48 @@ std::string datasheet_fit_json(const DataSheetFitResult& fit) {
   return o.str();
 }
 
+std::string sensitivity_json(const SensitivityReport& r) {
+  auto values = [](const ResponseValues& v) {
+    std::string out = "{";
+    for (int i = 0; i < response_count; ++i) {
+      out += (i ? ", " : " ") + json_string(key_of(all_responses[i])) + ": ";
+      out += v.value[i] ? json_number(*v.value[i]) : std::string("null");
+    }
+    return out + " }";
+  };
+  auto complex_value = [](const std::optional<std::complex<double>>& z) {
+    if (!z) return std::string("null");
+    return "{ \"re\": " + json_number(z->real()) + ", \"im\": " + json_number(z->imag()) + " }";
+  };
+  std::ostringstream o;
+  o << "{\n  \"load_opening\": " << json_number(r.stability.load_opening) << ",\n";
+  o << "  \"units\": {";
+  for (int i = 0; i < response_count; ++i)
+    o << (i ? ", " : " ") << json_string(key_of(all_responses[i])) << ": " << json_string(unit_of(all_responses[i]));
+  o << " },\n";
+  o << "  \"present\": " << values(r.present) << ",\n";
+  o << "  \"stable\": " << (r.stability.stable ? "true" : "false") << ",\n";
+  o << "  \"margins_apply\": " << (r.stability.margins_apply ? "true" : "false") << ",\n";
+  o << "  \"note\": " << json_string(r.stability.note) << ",\n";
+  if (r.stability.dominant)
+    o << "  \"least_damped_eigenvalue\": { \"re\": " << json_number(r.stability.dominant->eigenvalue.real())
+      << ", \"im\": " << json_number(r.stability.dominant->eigenvalue.imag()) << " },\n";
+  else
+    o << "  \"least_damped_eigenvalue\": null,\n";
+  o << "  \"parameters\": [";
+  for (std::size_t i = 0; i < r.effects.size(); ++i) {
+    const ParameterEffect& e = r.effects[i];
+    o << (i ? ",\n    " : "\n    ") << "{ \"key\": " << json_string(e.spec->key) << ", \"value\": "
+      << json_number(e.value) << ", \"unit\": " << json_string(e.spec->unit)
+      << ", \"change\": " << json_number(e.change) << ", \"change_is_relative\": " << (e.relative ? "true" : "false")
+      << ", \"skipped\": " << (e.skipped.empty() ? std::string("null") : json_string(e.skipped))
+      << ", \"note\": " << (e.note.empty() ? std::string("null") : json_string(e.note))
+      << ",\n      \"effects\": " << values(e.effect)
+      << ",\n      \"eigenvalue_change\": " << complex_value(e.eigenvalue_change)
+      << ", \"eigenvalue_change_by_differences\": " << complex_value(e.eigenvalue_change_by_differences) << " }";
+  }
+  o << "\n  ]\n}\n";
+  return o.str();
+}
+
 }  // namespace swashtune

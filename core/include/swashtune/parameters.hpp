@@ -144,6 +144,15 @@ struct FieldSpec {
   std::string_view none_word{};
   double none_value = 0.0;
 
+  // A design parameter a designer or a plant can change (an orifice, a
+  // spring, a volume, the oil): the sensitivity and tuning tools vary it.
+  // Its effects are reported for a change of tuning_change: a fraction of
+  // its value (0.1: 10 % larger) or, when not relative, an amount in the
+  // stored unit (a temperature: 10 K).
+  bool tunable = false;
+  bool tuning_relative = true;
+  double tuning_change = 0.1;
+
   bool is_none(double v) const { return !none_word.empty() && v == none_value; }
   // Words only (e.g. line.model = "lumped" or "distributed"), stored as the
   // numbers beside them; an empty word ends the list. No number is accepted.

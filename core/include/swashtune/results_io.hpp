@@ -12,11 +12,11 @@
 #include "swashtune/datasheet.hpp"
 #include "swashtune/fit.hpp"
 #include "swashtune/metrics.hpp"
+#include "swashtune/sensitivity.hpp"
 #include "swashtune/simulator.hpp"
+#include "swashtune/units.hpp"
 
 namespace swashtune {
-
-enum class UnitSystem { si, metric, us };
 
 std::optional<UnitSystem> parse_unit_system(std::string_view name);
 
@@ -96,6 +96,12 @@ std::string fit_trace_csv(const FitResult& fit);
 // A fit to data-sheet figures (fit --target --json), SI; each figure in its
 // stored unit (s, Pa, droop as a fraction of the setting).
 std::string datasheet_fit_json(const DataSheetFitResult& fit);
+
+// Sensitivities (sensitivity --json), SI: every response by its key in its
+// stored unit (unit_of), each parameter's change and the effect of that
+// change on each response (null where it has none), the least damped
+// eigenvalue's change by the perturbation formula and by differences.
+std::string sensitivity_json(const SensitivityReport& report);
 
 // JSON helpers shared by the writers: finite numbers in the shortest form that reads back exactly,
 // non-finite ones as null; strings escaped.

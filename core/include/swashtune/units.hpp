@@ -9,6 +9,9 @@
 
 namespace swashtune {
 
+// The units results are shown in: SI, metric (bar, L/min, deg, mm) or US.
+enum class UnitSystem { si, metric, us };
+
 // Exponents of the base quantities. Angle is kept as its own base quantity
 // (although SI treats the radian as 1) so that "17 kg" or "17 %" cannot be
 // taken for a swash angle, and "rpm" cannot be taken for "Hz".

@@ -1,0 +1,182 @@
+#include "tuning_commands.hpp"
+
+#include <algorithm>
+#include <cmath>
+#include <cstdio>
+#include <iostream>
+#include <optional>
+#include <string>
+#include <thread>
+#include <vector>
+
+#include "shown_units.hpp"
+#include "study_loading.hpp"
+#include "swashtune/results_io.hpp"
+#include "swashtune/safety.hpp"
+#include "swashtune/scenario.hpp"
+#include "swashtune/sensitivity.hpp"
+
+namespace swashtune::cli {
+namespace {
+
+std::optional<Response> response_of_key(const std::string& key) {
+  for (Response r : all_responses)
+    if (key == key_of(r)) return r;
+  return std::nullopt;
+}
+
+std::string response_keys() {
+  std::string out;
+  for (Response r : all_responses) out += std::string(out.empty() ? "" : ", ") + key_of(r);
+  return out;
+}
+
+// A response's value (or change) in the table's unit: the number alone.
+double shown(Response r, double stored, UnitSystem units) {
+  switch (r) {
+    case Response::peak:
+      return units == UnitSystem::us ? convert(stored, "Pa", "psi") : units == UnitSystem::metric ? stored * 1e-5 : stored;
+    case Response::off_stroke:
+    case Response::on_stroke:
+      return stored * 1e3;
+    case Response::overshoot:
+    case Response::droop:
+      return stored * 100.0;
+    default:
+      return stored;
+  }
+}
+
+const char* column_heading(Response r, UnitSystem units) {
+  switch (r) {
+    case Response::modulus_margin: return "modulus";
+    case Response::gain_margin: return "GM dB";
+    case Response::phase_margin: return "PM deg";
+    case Response::damping: return "damping";
+    case Response::frequency: return "f_d Hz";
+    case Response::peak: return units == UnitSystem::us ? "peak psi" : units == UnitSystem::metric ? "peak bar" : "peak Pa";
+    case Response::overshoot: return "over %";
+    case Response::off_stroke: return "off ms";
+    case Response::on_stroke: return "on ms";
+    case Response::droop: return "droop %";
+  }
+  return "?";
+}
+
+std::string cell(const std::optional<double>& v, Response r, UnitSystem units, bool signed_change) {
+  if (!v) return "-";
+  char buffer[32];
+  double x = shown(r, *v, units);
+  if (signed_change && std::abs(x) < 1e-6) x = 0.0;  // below what the runs resolve
+  std::snprintf(buffer, sizeof buffer, signed_change ? "%+.3g" : "%.4g", x);
+  return buffer;
+}
+
+}  // namespace
+
+struct TuningCommands::Options {
+  CLI::App* sensitivity = nullptr;
+  std::string scenario_path;
+  double opening = 0.0;
+  bool json = false;
+  bool no_runs = false;
+  int jobs = static_cast<int>(std::max(1u, std::thread::hardware_concurrency()));
+  std::string rank = "damping";
+  std::string units = "metric";
+};
+
+TuningCommands::TuningCommands(CLI::App& app) : o_(std::make_unique<Options>()) {
+  Options& o = *o_;
+  o.sensitivity = app.add_subcommand(
+      "sensitivity", "How each tunable design parameter moves the margins, the least damped mode and the data-sheet "
+                     "figures, at the present design");
+  o.sensitivity->add_option("SCENARIO", o.scenario_path, "Scenario file (TOML)")->required();
+  o.sensitivity
+      ->add_option("--opening", o.opening,
+                   "Load valve opening 0..1 at which the loop is linearised (default 0: deadhead, where the "
+                   "compensator holds the pump)")
+      ->capture_default_str();
+  o.sensitivity->add_option("--rank", o.rank, "Order the parameters by their effect on this figure: " + response_keys())
+      ->capture_default_str();
+  o.sensitivity->add_option("--jobs", o.jobs, "Parameters worked on at once, on this many threads")
+      ->capture_default_str();
+  o.sensitivity->add_flag("--no-runs", o.no_runs,
+                          "Only the linear figures (margins, least damped mode): no data-sheet runs");
+  o.sensitivity->add_flag("--json", o.json, "Print JSON (SI)");
+  o.sensitivity->add_option("--units", o.units, "Units of the table: si, metric or us")->capture_default_str();
+  o.sensitivity->add_flag("--strict", strict_input,
+                          "Treat a warning about the input (a legal but implausible value) as an error: exit 2");
+}
+
+TuningCommands::~TuningCommands() = default;
+
+bool TuningCommands::chosen() const { return o_->sensitivity->parsed(); }
+
+int TuningCommands::run() {
+  const Options& o = *o_;
+  const UnitSystem units = units_option(o.units);
+  const std::optional<Response> rank = response_of_key(o.rank);
+  if (!rank) throw ScenarioError("--rank: expected one of " + response_keys() + ", got \"" + o.rank + "\"");
+  if (!(o.opening >= 0.0 && o.opening <= 1.0))
+    throw ScenarioError("--opening: must be from 0 to 1, got " + std::to_string(o.opening));
+  if (o.jobs < 1) throw ScenarioError("--jobs: must be at least 1, got " + std::to_string(o.jobs));
+  const Scenario scenario = load_study(o.scenario_path);
+  SensitivityOptions options;
+  options.load_opening = o.opening;
+  options.jobs = o.jobs;
+  options.transient = !o.no_runs;
+  const SensitivityReport report = sensitivity(scenario, options);
+  if (o.json) {
+    std::cout << sensitivity_json(report);
+    return 0;
+  }
+
+  std::printf("Sensitivities of %s, the loop linearised at load opening %.3g%s\n", scenario.name.c_str(), o.opening,
+              o.no_runs ? "" : "; transient figures from the data-sheet test (from load opening 1, 5 ms slam)");
+  std::printf("Each row: what the change in the second column does to each figure (first order).\n");
+  if (report.stability.dry_friction_dominates)
+    std::printf("Dry friction decides this loop's small motions: no linear figure applies (%s).\n",
+                report.stability.note.c_str());
+  else if (!report.stability.margins_apply)
+    std::printf("The loop margins do not apply here: %s\n", report.stability.note.c_str());
+  if (!o.no_runs && report.start_stroke < 0.95)
+    std::printf("The data-sheet test gives no figures: at load opening 1 the pump runs at %.0f %% of full stroke, "
+                "not full flow (a larger load.valve_area or a higher compensator.setting reaches it).\n",
+                100.0 * report.start_stroke);
+  std::printf("%-34s %-9s", "parameter", "change");
+  for (Response r : all_responses) std::printf(" %9s", column_heading(r, units));
+  std::printf("\n%-34s %-9s", "present design", "");
+  for (Response r : all_responses) std::printf(" %9s", cell(report.present[r], r, units, false).c_str());
+  std::printf("\n");
+  std::vector<const ParameterEffect*> rows;
+  for (const ParameterEffect& e : report.effects) rows.push_back(&e);
+  auto size_of = [&](const ParameterEffect* e) { return e->effect[*rank] ? std::abs(*e->effect[*rank]) : -1.0; };
+  std::stable_sort(rows.begin(), rows.end(),
+                   [&](const ParameterEffect* a, const ParameterEffect* b) { return size_of(a) > size_of(b); });
+  for (const ParameterEffect* e : rows) {
+    char change[32];
+    if (e->relative)
+      std::snprintf(change, sizeof change, "+%.0f %%", 100.0 * e->change);
+    else
+      std::snprintf(change, sizeof change, "+%.3g %s", e->change, std::string(e->spec->unit).c_str());
+    std::printf("%-34s %-9s", std::string(e->spec->key).c_str(), e->skipped.empty() ? change : "");
+    if (!e->skipped.empty()) {
+      std::printf(" not varied: %s\n", e->skipped.c_str());
+      continue;
+    }
+    for (Response r : all_responses) std::printf(" %9s", cell(e->effect[r], r, units, true).c_str());
+    std::printf("%s%s\n", e->note.empty() ? "" : "  note: ", e->note.c_str());
+  }
+  std::printf("In plain words, the largest effects on %s:\n", words_of(*rank));
+  int said = 0;
+  for (const ParameterEffect* e : rows) {
+    if (said == 5 || !e->effect[*rank]) break;
+    std::printf("  - %s.\n", effect_in_words(*e, *rank, units).c_str());
+    ++said;
+  }
+  if (said == 0) std::printf("  - none: %s is not defined at this design.\n", words_of(*rank));
+  std::printf("%s\n", safety_notice_short);
+  return 0;
+}
+
+}  // namespace swashtune::cli
