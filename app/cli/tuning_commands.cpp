@@ -31,22 +31,6 @@ std::string response_keys() {
   return out;
 }
 
-// A response's value (or change) in the table's unit: the number alone.
-double shown(Response r, double stored, UnitSystem units) {
-  switch (r) {
-    case Response::peak:
-      return units == UnitSystem::us ? convert(stored, "Pa", "psi") : units == UnitSystem::metric ? stored * 1e-5 : stored;
-    case Response::off_stroke:
-    case Response::on_stroke:
-      return stored * 1e3;
-    case Response::overshoot:
-    case Response::droop:
-      return stored * 100.0;
-    default:
-      return stored;
-  }
-}
-
 const char* column_heading(Response r, UnitSystem units) {
   switch (r) {
     case Response::modulus_margin: return "modulus";
@@ -66,7 +50,7 @@ const char* column_heading(Response r, UnitSystem units) {
 std::string cell(const std::optional<double>& v, Response r, UnitSystem units, bool signed_change) {
   if (!v) return "-";
   char buffer[32];
-  double x = shown(r, *v, units);
+  double x = response_shown(r, *v, units);
   if (signed_change && std::abs(x) < 1e-6) x = 0.0;  // below what the runs resolve
   std::snprintf(buffer, sizeof buffer, signed_change ? "%+.3g" : "%.4g", x);
   return buffer;

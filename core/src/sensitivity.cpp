@@ -272,6 +272,44 @@ SensitivityReport sensitivity(const Scenario& scenario, const SensitivityOptions
   return report;
 }
 
+double response_shown(Response r, double stored, UnitSystem units) {
+  switch (r) {
+    case Response::peak:
+      return units == UnitSystem::us ? convert(stored, "Pa", "psi") : units == UnitSystem::metric ? stored * 1e-5 : stored;
+    case Response::off_stroke:
+    case Response::on_stroke:
+      return stored * 1e3;
+    case Response::overshoot:
+    case Response::droop:
+      return stored * 100.0;
+    default:
+      return stored;
+  }
+}
+
+const char* response_shown_unit(Response r, UnitSystem units) {
+  switch (r) {
+    case Response::peak:
+      return units == UnitSystem::us ? "psi" : units == UnitSystem::metric ? "bar" : "Pa";
+    case Response::off_stroke:
+    case Response::on_stroke:
+      return "ms";
+    case Response::overshoot:
+    case Response::droop:
+      return "%";
+    case Response::gain_margin:
+      return "dB";
+    case Response::phase_margin:
+      return "deg";
+    case Response::frequency:
+      return "Hz";
+    case Response::modulus_margin:
+    case Response::damping:
+      return "";
+  }
+  return "";
+}
+
 std::string response_text(Response r, double stored, UnitSystem units, bool is_change) {
   char buffer[64];
   switch (r) {

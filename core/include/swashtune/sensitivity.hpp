@@ -117,6 +117,10 @@ EigenvalueChanges eigenvalue_changes(const Eigen::MatrixXd& a, const Eigen::Matr
 
 // "a 10 % larger compensator control orifice lowers the phase margin by 4.0 deg".
 std::string effect_in_words(const ParameterEffect& e, Response r, UnitSystem units);
+// A response's value (or change) as a number in the unit system's display
+// unit (bar or psi, ms, % or points of %), and that unit ("" for a ratio).
+double response_shown(Response r, double stored, UnitSystem units);
+const char* response_shown_unit(Response r, UnitSystem units);
 // A response's value or change in the unit system's display unit, with it.
 std::string response_text(Response r, double stored, UnitSystem units, bool is_change);
 
