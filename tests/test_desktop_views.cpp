@@ -14,6 +14,7 @@
 #include <QMenuBar>
 #include <QProcess>
 #include <QPushButton>
+#include <QSignalSpy>
 #include <QSplitter>
 #include <QTabBar>
 #include <QTabWidget>
@@ -24,6 +25,7 @@
 #include <cmath>
 
 #include "circuit_view.hpp"
+#include "sensitivity_view.hpp"
 #include "compare_view.hpp"
 #include "control_panel.hpp"
 #include "desktop_helpers.hpp"
@@ -279,6 +281,59 @@ class ViewsTest : public QObject {
       QVERIFY2(near(got, want), qPrintable(QStringLiteral("node %1: drawn %2, pressure's %3").arg(k).arg(got.name(), want.name())));
     }
     QVERIFY(!near(c->alongLineColour(0.0), c->alongLineColour(1.0)));
+  }
+
+  // The sensitivity tab: the button works the present design out in the
+  // background; the bars are ranked by size, coloured by whether the change
+  // helps the figure, and the same numbers as core's for that design.
+  void sensitivityBarsRankTheParts() {
+    MainWindow w(quiet());
+    QVERIFY(show_active(w));
+    w.openFile(demo);
+    settle();
+    click_tab(w.sideTabs(), "Sensitivity");
+    settle();
+    SensitivityView* v = w.sensitivityView();
+    QVERIFY(v->isVisible());
+    QVERIFY(v->bars().empty());
+    QSignalSpy done(v, &SensitivityView::finished);
+    QTest::mouseClick(v->computeButton(), Qt::LeftButton);
+    QVERIFY(done.wait(60000));
+    QVERIFY(v->report().has_value());
+    const auto& bars = v->bars();
+    QVERIFY(bars.size() >= 5);
+    for (std::size_t i = 1; i < bars.size(); ++i) QVERIFY(std::abs(bars[i - 1].second) >= std::abs(bars[i].second));
+    // The same figures as core computes for the design on screen.
+    const SensitivityReport core_report = sensitivity(w.presentDesign());
+    double largest = 0.0;
+    QString largest_key;
+    for (const ParameterEffect& e : core_report.effects)
+      if (e.effect[Response::damping] && std::abs(*e.effect[Response::damping]) > largest) {
+        largest = std::abs(*e.effect[Response::damping]);
+        largest_key = QString::fromUtf8(e.spec->key.data(), int(e.spec->key.size()));
+      }
+    QCOMPARE(bars.front().first, largest_key);
+    QVERIFY(std::abs(std::abs(bars.front().second) - largest) <= 1e-9 * largest);
+    // Colours: damping is better larger, so a bar that raises it is green-ish.
+    QCustomPlot* chart = v->chart();
+    QCOMPARE(chart->plottableCount(), int(bars.size()));
+    for (int i = 0; i < chart->plottableCount(); ++i) {
+      const QColor c = chart->plottable(i)->brush().color();
+      if (bars[i].second > 0.0) QVERIFY2(c.green() > c.red(), qPrintable(bars[i].first));
+      if (bars[i].second < 0.0) QVERIFY2(c.red() > c.green(), qPrintable(bars[i].first));
+    }
+    QVERIFY(v->wordsText().contains("damping ratio"));
+    QVERIFY(v->wordsText().contains("lock out"));
+    // Another figure: ranked again from the same report, no new work.
+    choose(v->figureBox(), "the off-stroke time");
+    QVERIFY(v->wordsText().contains("off-stroke time"));
+    QVERIFY(!v->bars().empty());
+    if (qEnvironmentVariableIsSet("SWASHTUNE_GRAB")) w.grab().save(qEnvironmentVariable("SWASHTUNE_GRAB"));
+    for (std::size_t i = 1; i < v->bars().size(); ++i)
+      QVERIFY(std::abs(v->bars()[i - 1].second) >= std::abs(v->bars()[i].second));
+    // Shown in ms: the control orifice moves the off-stroke time by milliseconds, not by a few 1e-3.
+    for (const auto& bar : v->bars())
+      if (bar.first == QStringLiteral("compensator.control_orifice")) QVERIFY2(std::abs(bar.second) > 0.5, qPrintable(QString::number(bar.second)));
   }
 
   // While following, the time axis spans 5 s of wall time at the chosen time scale.

@@ -35,6 +35,7 @@
 #include "compare_view.hpp"
 #include "control_panel.hpp"
 #include "margins_view.hpp"
+#include "sensitivity_view.hpp"
 #include "parameter_editor.hpp"
 #include "picture_export.hpp"
 #include "pressure_flow_view.hpp"
@@ -202,6 +203,11 @@ MainWindow::MainWindow(Options options, QWidget* parent)
   side_tabs_->setObjectName("side-tabs");
   side_tabs_->addTab(margins_, tr("Loop margins"));
   side_tabs_->addTab(pressure_flow_, tr("Pressure-flow"));
+  sensitivity_ = new SensitivityView;
+  side_tabs_->addTab(sensitivity_, tr("Sensitivity"));
+  side_tabs_->setTabToolTip(side_tabs_->indexOf(sensitivity_),
+                            tr("Which design change moves which figure, ranked: first-order effects of 10 % changes"));
+  connect(sensitivity_, &SensitivityView::computeRequested, this, [this] { sensitivity_->compute(presentDesign()); });
   side_tabs_->addTab(editor_, tr("Parameters"));
   auto* trouble_scroll = new QScrollArea;
   trouble_scroll->setWidget(troubleshooting_);
@@ -531,6 +537,7 @@ void MainWindow::setUnits(UnitSystem system) {
   compare_->setUnits(system);
   pressure_flow_->setUnits(system);
   margins_->setUnits(system);
+  if (sensitivity_) sensitivity_->setUnits(system);
   editor_->setUnits(system);
   controls_->setUnits(system);
   troubleshooting_->setUnits(system);

@@ -35,6 +35,7 @@ class SessionController;
 class TraceView;
 class PressureFlowView;
 class MarginsView;
+class SensitivityView;
 class ParameterEditor;
 class ControlPanel;
 class TroubleshootingPanel;
@@ -100,6 +101,7 @@ class MainWindow : public QMainWindow {
   SessionController* session() const { return session_; }
   TraceView* traces() const { return traces_; }
   MarginsView* margins() const { return margins_; }
+  SensitivityView* sensitivityView() const { return sensitivity_; }
   PressureFlowView* pressureFlow() const { return pressure_flow_; }
   ParameterEditor* parameters() const { return editor_; }
   ControlPanel* controls() const { return controls_; }
@@ -172,6 +174,7 @@ class MainWindow : public QMainWindow {
   TraceView* traces_;
   PressureFlowView* pressure_flow_;
   MarginsView* margins_;
+  SensitivityView* sensitivity_ = nullptr;
   ParameterEditor* editor_;
   ControlPanel* controls_;
   TroubleshootingPanel* troubleshooting_;
