@@ -266,3 +266,18 @@ TEST(SensitivityCli, TableRanksByTheChosenFigureAndRefusesUnknownOnes) {
   EXPECT_EQ(opening.exit_code, 2);
   EXPECT_NE(opening.err.find("--opening"), std::string::npos) << opening.err;
 }
+
+// The remedies command (test_remedies checks the remedies themselves).
+TEST(SensitivityCli, RemediesSaysWhenNoneIsNeededAndRefusesBadOptions) {
+  const Outcome calm = cli("remedies " + demos + "valve-slam.toml");
+  ASSERT_EQ(calm.exit_code, 0) << calm.err;
+  EXPECT_NE(calm.out.find("does not hunt"), std::string::npos) << calm.out;
+  EXPECT_NE(calm.out.find("lock out"), std::string::npos);
+  const Outcome hunting = cli("remedies " + demos + "hunting-oversized-damping-orifice.toml --jobs 2");
+  ASSERT_EQ(hunting.exit_code, 0) << hunting.err;
+  EXPECT_NE(hunting.out.find("Single changes that stop it"), std::string::npos) << hunting.out;
+  EXPECT_NE(hunting.out.find("  1   "), std::string::npos) << hunting.out;  // at least one ranked remedy
+  const Outcome bad = cli("remedies " + demos + "valve-slam.toml --damping 1.5");
+  EXPECT_EQ(bad.exit_code, 2);
+  EXPECT_NE(bad.err.find("--damping"), std::string::npos) << bad.err;
+}
