@@ -15,6 +15,7 @@
 #include <QProcess>
 #include <QPushButton>
 #include <QSignalSpy>
+#include <QTableWidget>
 #include <QSplitter>
 #include <QTabBar>
 #include <QTabWidget>
@@ -334,6 +335,42 @@ class ViewsTest : public QObject {
     // Shown in ms: the control orifice moves the off-stroke time by milliseconds, not by a few 1e-3.
     for (const auto& bar : v->bars())
       if (bar.first == QStringLiteral("compensator.control_orifice")) QVERIFY2(std::abs(bar.second) > 0.5, qPrintable(QString::number(bar.second)));
+  }
+
+  // Remedies for a pump that hunts: found in the background, one row per
+  // remedy with core's figures, and its button adds the remedy as a design
+  // to the comparison.
+  void remediesGoToTheComparison() {
+    MainWindow w(quiet());
+    QVERIFY(show_active(w));
+    w.openFile(QStringLiteral(SWASHTUNE_SOURCE_DIR "/scenarios/hunting-oversized-damping-orifice.toml"));
+    settle();
+    click_tab(w.sideTabs(), "Sensitivity");
+    settle();
+    SensitivityView* v = w.sensitivityView();
+    click_tab(v->pages(), "Remedies");
+    settle();
+    QSignalSpy done(v, &SensitivityView::remediesFinished);
+    QTest::mouseClick(v->remediesButton(), Qt::LeftButton);
+    QVERIFY(done.wait(120000));
+    QVERIFY(v->remedies().has_value() && v->remedies()->hunts);
+    QTableWidget* table = v->remediesTable();
+    int found = 0;
+    for (const Remedy& m : v->remedies()->remedies) found += m.found ? 1 : 0;
+    QVERIFY(found >= 1);
+    QCOMPARE(table->rowCount(), found);
+    const Remedy& first = v->remedies()->remedies.front();
+    QCOMPARE(table->item(0, 0)->text(), QString::fromStdString(first.action));
+    QCOMPARE(table->item(0, 3)->text(), first.run_hunts ? QStringLiteral("still hunts") : QStringLiteral("settles"));
+    if (qEnvironmentVariableIsSet("SWASHTUNE_GRAB")) w.grab().save(qEnvironmentVariable("SWASHTUNE_GRAB"));
+    const int before = w.compare()->designCount();
+    auto* button = qobject_cast<QPushButton*>(table->cellWidget(0, 4));
+    QVERIFY(button);
+    table->scrollToItem(table->item(0, 0));
+    QTest::mouseClick(button, Qt::LeftButton);
+    settle();
+    QCOMPARE(w.compare()->designCount(), before + 1);
+    QVERIFY(w.compare()->designName(before).contains(QString::fromStdString(first.action)));
   }
 
   // While following, the time axis spans 5 s of wall time at the chosen time scale.

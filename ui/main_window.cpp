@@ -208,6 +208,12 @@ MainWindow::MainWindow(Options options, QWidget* parent)
   side_tabs_->setTabToolTip(side_tabs_->indexOf(sensitivity_),
                             tr("Which design change moves which figure, ranked: first-order effects of 10 % changes"));
   connect(sensitivity_, &SensitivityView::computeRequested, this, [this] { sensitivity_->compute(presentDesign()); });
+  connect(sensitivity_, &SensitivityView::remediesRequested, this,
+          [this] { sensitivity_->findRemedies(presentDesign()); });
+  connect(sensitivity_, &SensitivityView::remedyToCompare, this, [this](const QString& name, const Scenario& design) {
+    if (!compare_->addDesign(name, design, CompareView::Source::present) && !compare_->lastMessage().isEmpty())
+      showError(compare_->lastMessage());
+  });
   side_tabs_->addTab(editor_, tr("Parameters"));
   auto* trouble_scroll = new QScrollArea;
   trouble_scroll->setWidget(troubleshooting_);

@@ -4,7 +4,10 @@
 #include <QHBoxLayout>
 #include <QLabel>
 #include <QPushButton>
+#include <QHeaderView>
 #include <QScrollArea>
+#include <QTabWidget>
+#include <QTableWidget>
 #include <QVBoxLayout>
 #include <QtConcurrent/QtConcurrentRun>
 #include <algorithm>
@@ -31,7 +34,11 @@ SensitivityView::SensitivityView(QWidget* parent)
       status_(new QLabel),
       chart_(new QCustomPlot),
       words_(new QLabel),
-      watcher_(new QFutureWatcher<SensitivityReport>(this)) {
+      watcher_(new QFutureWatcher<SensitivityReport>(this)),
+      remedies_button_(new QPushButton(tr("Find remedies for a pump that hunts"))),
+      remedies_status_(new QLabel),
+      remedies_table_(new QTableWidget),
+      remedies_watcher_(new QFutureWatcher<RemedyReport>(this)) {
   setObjectName("sensitivity-view");
   figure_->setObjectName("sensitivity-figure");
   compute_->setObjectName("sensitivity-compute");
@@ -40,7 +47,16 @@ SensitivityView::SensitivityView(QWidget* parent)
   auto* top = new QHBoxLayout;
   top->addWidget(new QLabel(tr("Rank by")));
   top->addWidget(figure_, 1);
-  auto* layout = new QVBoxLayout(this);
+  auto* outer = new QVBoxLayout(this);
+  outer->setContentsMargins(0, 0, 0, 0);
+  pages_ = new QTabWidget;
+  pages_->setObjectName("sensitivity-pages");
+  outer->addWidget(pages_);
+  auto* effects_page = new QWidget;
+  auto* remedies_page = new QWidget;
+  pages_->addTab(effects_page, tr("Ranked effects"));
+  pages_->addTab(remedies_page, tr("Remedies"));
+  auto* layout = new QVBoxLayout(effects_page);
   layout->addLayout(top);
   layout->addWidget(compute_);
   status_->setWordWrap(true);
@@ -58,6 +74,35 @@ SensitivityView::SensitivityView(QWidget* parent)
   words_scroll->setFrameShape(QFrame::NoFrame);
   words_scroll->setMinimumHeight(120);
   layout->addWidget(words_scroll, 2);
+  auto* remedies_layout = new QVBoxLayout(remedies_page);
+  remedies_button_->setObjectName("remedies-find");
+  remedies_layout->addWidget(remedies_button_);
+  remedies_status_->setWordWrap(true);
+  remedies_status_->setSizePolicy(QSizePolicy::Preferred, QSizePolicy::Minimum);
+  remedies_status_->setText(tr("For a pump that hunts at deadhead: each single change a plant can make, with the "
+                               "smallest amount that stops the hunting, the smallest change first."));
+  remedies_layout->addWidget(remedies_status_);
+  remedies_table_->setObjectName("remedies-table");
+  remedies_table_->setColumnCount(5);
+  remedies_table_->setHorizontalHeaderLabels({tr("change"), tr("amount"), tr("damping after"), tr("run"), QString()});
+  remedies_table_->horizontalHeader()->setSectionResizeMode(QHeaderView::ResizeToContents);
+  remedies_table_->horizontalHeader()->setSectionResizeMode(0, QHeaderView::Stretch);
+  remedies_table_->setWordWrap(true);
+  remedies_table_->verticalHeader()->setVisible(false);
+  remedies_table_->setEditTriggers(QAbstractItemView::NoEditTriggers);
+  remedies_layout->addWidget(remedies_table_, 1);
+  connect(remedies_button_, &QPushButton::clicked, this, &SensitivityView::remediesRequested);
+  connect(remedies_watcher_, &QFutureWatcher<RemedyReport>::finished, this, [this] {
+    remedies_button_->setEnabled(true);
+    try {
+      remedies_ = remedies_watcher_->result();
+    } catch (const std::exception& e) {
+      remedies_.reset();
+      remedies_status_->setText(tr("Could not work the remedies out: %1").arg(QString::fromUtf8(e.what())));
+    }
+    showRemedies();
+    emit remediesFinished();
+  });
   status_->setText(tr("What a 10 % larger value of each tunable part (10 degC hotter oil) does to the figure "
                       "chosen, first order."));
   connect(compute_, &QPushButton::clicked, this, &SensitivityView::computeRequested);
@@ -78,7 +123,67 @@ SensitivityView::SensitivityView(QWidget* parent)
   showRanking();
 }
 
-SensitivityView::~SensitivityView() { watcher_->waitForFinished(); }
+SensitivityView::~SensitivityView() {
+  watcher_->waitForFinished();
+  remedies_watcher_->waitForFinished();
+}
+
+void SensitivityView::findRemedies(const Scenario& design) {
+  if (remedies_watcher_->isRunning()) return;
+  remedies_button_->setEnabled(false);
+  remedies_status_->setText(tr("Trying each change a plant can make..."));
+  remedies_base_ = design;
+  RemedyOptions options;
+  options.jobs = static_cast<int>(std::max(1u, std::thread::hardware_concurrency()));
+  remedies_watcher_->setFuture(QtConcurrent::run([design, options] { return rank_remedies(design, options); }));
+}
+
+void SensitivityView::showRemedies() {
+  remedies_table_->setRowCount(0);
+  if (!remedies_) return;
+  const RemedyReport& r = *remedies_;
+  if (!r.hunts) {
+    remedies_status_->setText(tr("This pump does not hunt at deadhead: no remedy is needed."));
+    return;
+  }
+  remedies_status_->setText(
+      (r.by_runs ? tr("Judged by runs of the study's events (dry friction decides the loop; stick-slip depends on "
+                      "the disturbance, so try a remedy on every duty). ")
+                 : tr("Judged by the eigenvalues at deadhead (damping ratio at least 0.05). ")) +
+      tr("The smallest amount of each single change that stops the hunting, the smallest change first. Make one "
+         "change at a time, locked out, and check it with a gauge."));
+  for (const Remedy& m : r.remedies) {
+    if (!m.found) continue;
+    const int row = remedies_table_->rowCount();
+    remedies_table_->insertRow(row);
+    const QString amount = QStringLiteral("%1 \u2192 %2")
+                               .arg(m.spec->is_none(m.from) ? QString::fromUtf8(m.spec->none_word.data(),
+                                                                                int(m.spec->none_word.size()))
+                                                            : QString::number(m.from, 'g', 4),
+                                    QString::number(m.to, 'g', 4)) +
+                           QStringLiteral(" ") + QString::fromUtf8(m.spec->unit.data(), int(m.spec->unit.size()));
+    auto* action = new QTableWidgetItem(qs(m.action));
+    action->setToolTip(qs(m.action));
+    remedies_table_->setItem(row, 0, action);
+    auto* change = new QTableWidgetItem(qs(std::string(m.spec->key)) + ":\n" + amount);
+    change->setToolTip(change->text());
+    remedies_table_->setItem(row, 1, change);
+    remedies_table_->setItem(row, 2,
+                             new QTableWidgetItem(m.least_damping ? QString::number(*m.least_damping, 'f', 3) : "-"));
+    remedies_table_->setItem(row, 3, new QTableWidgetItem(m.run_hunts ? tr("still hunts") : tr("settles")));
+    auto* compare = new QPushButton(tr("Compare"));
+    compare->setObjectName(QStringLiteral("remedy-compare-%1").arg(row));
+    Scenario design = remedies_base_;
+    m.spec->set(design.parameters, m.to);
+    for (const ParameterSpec* extra : m.also) extra->set(design.parameters, 0.0);
+    const QString name = tr("remedy: %1").arg(qs(m.action));
+    connect(compare, &QPushButton::clicked, this, [this, name, design] { emit remedyToCompare(name, design); });
+    remedies_table_->setCellWidget(row, 4, compare);
+  }
+  remedies_table_->resizeRowsToContents();
+  if (remedies_table_->rowCount() == 0)
+    remedies_status_->setText(remedies_status_->text() + tr(" None of the single changes tried stops it."));
+}
 
 void SensitivityView::setUnits(UnitSystem system) {
   units_ = system;
