@@ -31,22 +31,45 @@ struct Candidate {
 // ISO 3448 viscosity grades (mm^2/s at 40 degC) a plant can change to.
 constexpr double iso_grades[] = {10, 15, 22, 32, 46, 68, 100, 150};
 
+// The worst window of a run of the scenario's events: sustained first, then
+// the largest swing.
+struct RunWindow {
+  bool hunts = false;  // a window with a sustained oscillation
+  double hz = 0.0, peak_to_peak = 0.0;
+};
+
+RunWindow worst_window(const Scenario& s) {
+  RunWindow w;
+  const RunResult run = run_scenario(s, RunOptions{{}, 16});
+  for (const EventMetrics& m : event_metrics(s, run)) {
+    const bool sustained = m.oscillation.kind == OscillationKind::sustained;
+    if ((sustained && !w.hunts) || (sustained == w.hunts && m.oscillation.peak_to_peak > w.peak_to_peak)) {
+      w.hunts = w.hunts || sustained;
+      w.hz = m.oscillation.frequency_hz;
+      w.peak_to_peak = m.oscillation.peak_to_peak;
+    }
+  }
+  return w;
+}
+
 struct Verdict {
   bool hunts = false;
   bool loop_open = false;  // the swash rests on a stop
   bool by_runs = false;
   std::optional<double> damping, hz, phase_margin, gain_margin;
+  std::optional<RunWindow> run;  // when judged by runs, or asked for
 };
 
-Verdict judge(const Scenario& s, const RemedyOptions& options) {
+// Whether the design hunts; `with_run` also runs its events when the
+// eigenvalues decide (a verdict by runs always has its run).
+Verdict judge(const Scenario& s, const RemedyOptions& options, bool with_run = false) {
   Verdict v;
   ModelParameters p = s.parameters;
   p.opening = options.load_opening;
   if (dry_friction_dominates(p)) {
     v.by_runs = true;
-    const RunResult run = run_scenario(s, RunOptions{{}, 16});
-    for (const EventMetrics& m : event_metrics(s, run))
-      if (m.oscillation.kind == OscillationKind::sustained) v.hunts = true;
+    v.run = worst_window(s);
+    v.hunts = v.run->hunts;
     return v;
   }
   const StabilityReport r = analyse_stability(p, s.settings);
@@ -62,23 +85,8 @@ Verdict judge(const Scenario& s, const RemedyOptions& options) {
   // A change that parks the swash on a stop at this opening opens the loop
   // rather than steadying it: not a remedy.
   v.loop_open = !r.model.loop_active;
+  if (with_run) v.run = worst_window(s);
   return v;
-}
-
-// The worst window of a run of the scenario's events: sustained first, then
-// the largest swing.
-void worst_window(const Scenario& s, bool& hunts, double& hz, double& p2p) {
-  hunts = false;
-  hz = p2p = 0.0;
-  const RunResult run = run_scenario(s, RunOptions{{}, 16});
-  for (const EventMetrics& m : event_metrics(s, run)) {
-    const bool sustained = m.oscillation.kind == OscillationKind::sustained;
-    if ((sustained && !hunts) || (sustained == hunts && m.oscillation.peak_to_peak > p2p)) {
-      hunts = hunts || sustained;
-      hz = m.oscillation.frequency_hz;
-      p2p = m.oscillation.peak_to_peak;
-    }
-  }
 }
 
 std::vector<Candidate> candidates(const ModelParameters& p) {
@@ -202,13 +210,13 @@ Scenario with_value(const Scenario& s, const Candidate& c, double value) {
 
 RemedyReport rank_remedies(const Scenario& scenario, const RemedyOptions& options) {
   RemedyReport report;
-  const Verdict present = judge(scenario, options);
+  const Verdict present = judge(scenario, options, true);
   report.hunts = present.hunts;
   report.by_runs = present.by_runs;
   report.least_damping = present.damping;
   report.least_damped_hz = present.hz;
-  bool run_hunts = false;
-  worst_window(scenario, run_hunts, report.run_frequency_hz, report.run_peak_to_peak);
+  report.run_frequency_hz = present.run->hz;
+  report.run_peak_to_peak = present.run->peak_to_peak;
   if (!report.hunts) return report;
 
   std::optional<DataSheetFigures> present_sheet;
@@ -274,13 +282,15 @@ RemedyReport rank_remedies(const Scenario& scenario, const RemedyOptions& option
         }
         r.size = c.size(r.to);
         const Scenario changed = with_value(scenario, c, r.to);
-        const Verdict at = judge(changed, options);
+        const Verdict at = judge(changed, options, r.found);
         r.least_damping = at.damping;
         r.least_damped_hz = at.hz;
         r.phase_margin_deg = at.phase_margin;
         r.gain_margin_db = at.gain_margin;
         if (!r.found) continue;
-        worst_window(changed, r.run_hunts, r.run_frequency_hz, r.run_peak_to_peak);
+        r.run_hunts = at.run->hunts;
+        r.run_frequency_hz = at.run->hz;
+        r.run_peak_to_peak = at.run->peak_to_peak;
         if (present_sheet) {
           Scenario full = changed;
           full.parameters.opening = 1.0;
