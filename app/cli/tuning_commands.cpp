@@ -32,20 +32,10 @@ std::string response_keys() {
   return out;
 }
 
-const char* column_heading(Response r, UnitSystem units) {
-  switch (r) {
-    case Response::modulus_margin: return "modulus";
-    case Response::gain_margin: return "GM dB";
-    case Response::phase_margin: return "PM deg";
-    case Response::damping: return "damping";
-    case Response::frequency: return "f_d Hz";
-    case Response::peak: return units == UnitSystem::us ? "peak psi" : units == UnitSystem::metric ? "peak bar" : "peak Pa";
-    case Response::overshoot: return "over %";
-    case Response::off_stroke: return "off ms";
-    case Response::on_stroke: return "on ms";
-    case Response::droop: return "droop %";
-  }
-  return "?";
+// "PM deg", "off ms", "damping": the short name and the shown unit.
+std::string column_heading(Response r, UnitSystem units) {
+  const std::string unit = response_shown_unit(r, units);
+  return std::string(heading_of(r)) + (unit.empty() ? "" : " " + unit);
 }
 
 std::string cell(const std::optional<double>& v, Response r, UnitSystem units, bool signed_change) {
@@ -229,7 +219,7 @@ int TuningCommands::run() {
                 "not full flow (a larger load.valve_area or a higher compensator.setting reaches it).\n",
                 100.0 * report.start_stroke);
   std::printf("%-34s %-9s", "parameter", "change");
-  for (Response r : all_responses) std::printf(" %9s", column_heading(r, units));
+  for (Response r : all_responses) std::printf(" %9s", column_heading(r, units).c_str());
   std::printf("\n%-34s %-9s", "present design", "");
   for (Response r : all_responses) std::printf(" %9s", cell(report.present[r], r, units, false).c_str());
   std::printf("\n");

@@ -15,68 +15,48 @@
 
 namespace swashtune {
 
-const char* key_of(Response r) {
-  switch (r) {
-    case Response::modulus_margin: return "modulus_margin";
-    case Response::gain_margin: return "gain_margin";
-    case Response::phase_margin: return "phase_margin";
-    case Response::damping: return "damping";
-    case Response::frequency: return "frequency";
-    case Response::peak: return "peak";
-    case Response::overshoot: return "overshoot";
-    case Response::off_stroke: return "off_stroke";
-    case Response::on_stroke: return "on_stroke";
-    case Response::droop: return "droop";
-  }
-  return "?";
-}
+namespace {
 
-const char* words_of(Response r) {
-  switch (r) {
-    case Response::modulus_margin: return "the modulus margin";
-    case Response::gain_margin: return "the gain margin";
-    case Response::phase_margin: return "the phase margin";
-    case Response::damping: return "the damping ratio of the least damped mode";
-    case Response::frequency: return "the frequency of the least damped mode";
-    case Response::peak: return "the slam peak";
-    case Response::overshoot: return "the slam overshoot";
-    case Response::off_stroke: return "the off-stroke time";
-    case Response::on_stroke: return "the on-stroke time";
-    case Response::droop: return "the droop";
-  }
-  return "?";
-}
+// Everything said about each response, in the enum's order: key, words,
+// short heading, stored unit, which way is better (+1 larger, -1 smaller,
+// 0 neither), and how it is shown (factor from the stored unit, unit and
+// format; the peak's depend on the unit system, see below).
+struct ResponseFacts {
+  const char* key;
+  const char* words;
+  const char* heading;
+  const char* unit;
+  int better;
+  double to_shown;
+  const char* shown_unit;
+  const char* format;
+};
 
-const char* unit_of(Response r) {
-  switch (r) {
-    case Response::modulus_margin:
-    case Response::damping:
-    case Response::overshoot:
-    case Response::droop: return "-";
-    case Response::gain_margin: return "dB";
-    case Response::phase_margin: return "deg";
-    case Response::frequency: return "Hz";
-    case Response::peak: return "Pa";
-    case Response::off_stroke:
-    case Response::on_stroke: return "s";
-  }
-  return "-";
-}
+constexpr ResponseFacts response_facts[response_count] = {
+    {"modulus_margin", "the modulus margin", "modulus", "-", +1, 1.0, "", "%.3f"},
+    {"gain_margin", "the gain margin", "GM", "dB", +1, 1.0, "dB", "%.2f"},
+    {"phase_margin", "the phase margin", "PM", "deg", +1, 1.0, "deg", "%.1f"},
+    {"damping", "the damping ratio of the least damped mode", "damping", "-", +1, 1.0, "", "%.3f"},
+    {"frequency", "the frequency of the least damped mode", "f_d", "Hz", 0, 1.0, "Hz", "%.3g"},
+    {"peak", "the slam peak", "peak", "Pa", -1, 1.0, "Pa", "%.4g"},
+    {"overshoot", "the slam overshoot", "over", "-", -1, 100.0, "%", "%.2f"},
+    {"off_stroke", "the off-stroke time", "off", "s", -1, 1e3, "ms", "%.1f"},
+    {"on_stroke", "the on-stroke time", "on", "s", -1, 1e3, "ms", "%.1f"},
+    {"droop", "the droop", "droop", "-", 0, 100.0, "%", "%.2f"},
+};
+
+const ResponseFacts& facts(Response r) { return response_facts[static_cast<int>(r)]; }
+
+}  // namespace
+
+const char* key_of(Response r) { return facts(r).key; }
+const char* words_of(Response r) { return facts(r).words; }
+const char* heading_of(Response r) { return facts(r).heading; }
+const char* unit_of(Response r) { return facts(r).unit; }
 
 std::optional<bool> larger_is_better(Response r) {
-  switch (r) {
-    case Response::modulus_margin:
-    case Response::gain_margin:
-    case Response::phase_margin:
-    case Response::damping: return true;
-    case Response::peak:
-    case Response::overshoot:
-    case Response::off_stroke:
-    case Response::on_stroke: return false;
-    case Response::frequency:
-    case Response::droop: return std::nullopt;
-  }
-  return std::nullopt;
+  if (facts(r).better == 0) return std::nullopt;
+  return facts(r).better > 0;
 }
 
 EigenvalueChanges eigenvalue_changes(const Eigen::MatrixXd& a, const Eigen::MatrixXd& da) {
@@ -273,77 +253,25 @@ SensitivityReport sensitivity(const Scenario& scenario, const SensitivityOptions
 }
 
 double response_shown(Response r, double stored, UnitSystem units) {
-  switch (r) {
-    case Response::peak:
-      return units == UnitSystem::us ? convert(stored, "Pa", "psi") : units == UnitSystem::metric ? stored * 1e-5 : stored;
-    case Response::off_stroke:
-    case Response::on_stroke:
-      return stored * 1e3;
-    case Response::overshoot:
-    case Response::droop:
-      return stored * 100.0;
-    default:
-      return stored;
-  }
+  if (r == Response::peak)
+    return units == UnitSystem::us ? convert(stored, "Pa", "psi") : units == UnitSystem::metric ? stored * 1e-5 : stored;
+  return stored * facts(r).to_shown;
 }
 
 const char* response_shown_unit(Response r, UnitSystem units) {
-  switch (r) {
-    case Response::peak:
-      return units == UnitSystem::us ? "psi" : units == UnitSystem::metric ? "bar" : "Pa";
-    case Response::off_stroke:
-    case Response::on_stroke:
-      return "ms";
-    case Response::overshoot:
-    case Response::droop:
-      return "%";
-    case Response::gain_margin:
-      return "dB";
-    case Response::phase_margin:
-      return "deg";
-    case Response::frequency:
-      return "Hz";
-    case Response::modulus_margin:
-    case Response::damping:
-      return "";
-  }
-  return "";
+  if (r == Response::peak) return units == UnitSystem::us ? "psi" : units == UnitSystem::metric ? "bar" : "Pa";
+  return facts(r).shown_unit;
 }
 
 std::string response_text(Response r, double stored, UnitSystem units, bool is_change) {
+  const char* format = facts(r).format;
+  if (r == Response::peak) format = units == UnitSystem::us ? "%.0f" : units == UnitSystem::metric ? "%.1f" : "%.4g";
   char buffer[64];
-  switch (r) {
-    case Response::peak:
-      if (units == UnitSystem::us)
-        std::snprintf(buffer, sizeof buffer, "%.0f psi", convert(stored, "Pa", "psi"));
-      else if (units == UnitSystem::metric)
-        std::snprintf(buffer, sizeof buffer, "%.1f bar", stored * 1e-5);
-      else
-        std::snprintf(buffer, sizeof buffer, "%.4g Pa", stored);
-      break;
-    case Response::off_stroke:
-    case Response::on_stroke:
-      std::snprintf(buffer, sizeof buffer, "%.1f ms", stored * 1e3);
-      break;
-    case Response::overshoot:
-    case Response::droop:
-      std::snprintf(buffer, sizeof buffer, is_change ? "%.2f points of %%" : "%.2f %%", stored * 100.0);
-      break;
-    case Response::gain_margin:
-      std::snprintf(buffer, sizeof buffer, "%.2f dB", stored);
-      break;
-    case Response::phase_margin:
-      std::snprintf(buffer, sizeof buffer, "%.1f deg", stored);
-      break;
-    case Response::frequency:
-      std::snprintf(buffer, sizeof buffer, "%.3g Hz", stored);
-      break;
-    case Response::modulus_margin:
-    case Response::damping:
-      std::snprintf(buffer, sizeof buffer, "%.3f", stored);
-      break;
-  }
-  return buffer;
+  std::snprintf(buffer, sizeof buffer, format, response_shown(r, stored, units));
+  const std::string unit = response_shown_unit(r, units);
+  if (unit.empty()) return buffer;
+  if (unit == "%" && is_change) return std::string(buffer) + " points of %";
+  return std::string(buffer) + " " + unit;
 }
 
 std::string effect_in_words(const ParameterEffect& e, Response r, UnitSystem units) {

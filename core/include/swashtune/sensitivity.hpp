@@ -48,6 +48,7 @@ inline constexpr Response all_responses[response_count] = {
 
 const char* key_of(Response r);    // "phase_margin"
 const char* words_of(Response r);  // "the phase margin"
+const char* heading_of(Response r);  // short, for table headings: "PM", "off"
 const char* unit_of(Response r);   // stored unit: "-", "dB", "deg", "Hz", "Pa", "s"
 // Whether the figure is better when larger (margins, damping); false for
 // the peak, overshoot and times; nullopt for the frequency and droop, where
