@@ -20,6 +20,7 @@
 #include <limits>
 
 #include "plot_style.hpp"
+#include "qt_text.hpp"
 #include "trace_columns.hpp"
 
 namespace swashtune::ui {
@@ -27,8 +28,6 @@ namespace {
 
 // The designs' colours, in the order they are added (ours; the baseline is drawn thicker).
 const QRgb kDesignColours[] = {0x1f5f8b, 0xc2410c, 0x2a9d8f, 0x7b3fa0, 0xb58a12, 0x9e2a2b, 0x3a7d44, 0x5c677d};
-
-QString qs(std::string_view s) { return QString::fromUtf8(s.data(), static_cast<int>(s.size())); }
 
 const double nan_value = std::numeric_limits<double>::quiet_NaN();
 

@@ -35,10 +35,11 @@
 #include "compare_view.hpp"
 #include "control_panel.hpp"
 #include "margins_view.hpp"
-#include "sensitivity_view.hpp"
 #include "parameter_editor.hpp"
 #include "picture_export.hpp"
 #include "pressure_flow_view.hpp"
+#include "qt_text.hpp"
+#include "sensitivity_view.hpp"
 #include "session_controller.hpp"
 #include "swashtune/atomic_file.hpp"
 #include "swashtune/model.hpp"
@@ -61,8 +62,6 @@ constexpr int autosave_delay_ms = 1500;
 constexpr double longest_replay_s = 600.0;
 
 QString scenario_filter() { return QObject::tr("Scenario files (*.toml);;All files (*)"); }
-
-QString qs(std::string_view s) { return QString::fromUtf8(s.data(), static_cast<int>(s.size())); }
 
 bool same_parameters(const ModelParameters& a, const ModelParameters& b) {
   for (const ParameterSpec& spec : parameter_registry())

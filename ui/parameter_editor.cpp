@@ -23,6 +23,7 @@
 #include <string_view>
 #include <utility>
 
+#include "qt_text.hpp"
 #include "swashtune/units.hpp"
 
 namespace swashtune::ui {
@@ -32,8 +33,6 @@ enum Column { kKey, kSymbol, kValue, kUnit, kDefault, kRange, kMeaning, kColumnC
 
 constexpr int kKeyRole = Qt::UserRole;        // the row's parameter key; empty on heading rows
 constexpr int kShownRole = Qt::UserRole + 1;  // text last written into a value cell by the editor
-
-QString qs(std::string_view s) { return QString::fromUtf8(s.data(), static_cast<qsizetype>(s.size())); }
 
 std::string_view section_of(std::string_view key) { return key.substr(0, key.find('.')); }
 

@@ -16,14 +16,13 @@
 #include <thread>
 
 #include "plot_style.hpp"
+#include "qt_text.hpp"
 #include "swashtune/safety.hpp"
 
 namespace swashtune::ui {
 namespace {
 
 constexpr int kMostBars = 12;
-
-QString qs(const std::string& s) { return QString::fromStdString(s); }
 
 }  // namespace
 
@@ -157,15 +156,14 @@ void SensitivityView::showRemedies() {
     const int row = remedies_table_->rowCount();
     remedies_table_->insertRow(row);
     const QString amount = QStringLiteral("%1 \u2192 %2")
-                               .arg(m.spec->is_none(m.from) ? QString::fromUtf8(m.spec->none_word.data(),
-                                                                                int(m.spec->none_word.size()))
+                               .arg(m.spec->is_none(m.from) ? qs(m.spec->none_word)
                                                             : QString::number(m.from, 'g', 4),
                                     QString::number(m.to, 'g', 4)) +
-                           QStringLiteral(" ") + QString::fromUtf8(m.spec->unit.data(), int(m.spec->unit.size()));
+                           QStringLiteral(" ") + qs(m.spec->unit);
     auto* action = new QTableWidgetItem(qs(m.action));
     action->setToolTip(qs(m.action));
     remedies_table_->setItem(row, 0, action);
-    auto* change = new QTableWidgetItem(qs(std::string(m.spec->key)) + ":\n" + amount);
+    auto* change = new QTableWidgetItem(qs(m.spec->key) + ":\n" + amount);
     change->setToolTip(change->text());
     remedies_table_->setItem(row, 1, change);
     remedies_table_->setItem(row, 2,
@@ -240,7 +238,7 @@ void SensitivityView::showRanking() {
   for (int i = 0; i < n; ++i) {
     const ParameterEffect& e = *ranked[i];
     const double shown = response_shown(r, *e.effect[r], units_);
-    bars_.emplace_back(QString::fromUtf8(e.spec->key.data(), static_cast<int>(e.spec->key.size())), shown);
+    bars_.emplace_back(qs(e.spec->key), shown);
     widest = std::max(widest, std::abs(shown));
     // One bar per plottable: each takes the colour of what it does.
     auto* bar = new QCPBars(chart_->yAxis, chart_->xAxis);
