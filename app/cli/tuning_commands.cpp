@@ -113,12 +113,17 @@ bool TuningCommands::chosen() const { return o_->sensitivity->parsed() || o_->re
 
 namespace {
 
-int remedies_command(const std::string& path, double opening, double least_damping, int jobs, UnitSystem units) {
+// The options both commands share.
+void check_opening_and_jobs(double opening, int jobs) {
   if (!(opening >= 0.0 && opening <= 1.0))
     throw ScenarioError("--opening: must be from 0 to 1, got " + std::to_string(opening));
+  if (jobs < 1) throw ScenarioError("--jobs: must be at least 1, got " + std::to_string(jobs));
+}
+
+int remedies_command(const std::string& path, double opening, double least_damping, int jobs, UnitSystem units) {
+  check_opening_and_jobs(opening, jobs);
   if (!(least_damping >= 0.0 && least_damping < 1.0))
     throw ScenarioError("--damping: must be from 0 to below 1, got " + std::to_string(least_damping));
-  if (jobs < 1) throw ScenarioError("--jobs: must be at least 1, got " + std::to_string(jobs));
   const Scenario scenario = load_study(path);
   RemedyOptions options;
   options.load_opening = opening;
@@ -192,9 +197,7 @@ int TuningCommands::run() {
   if (o.remedies->parsed()) return remedies_command(o.scenario_path, o.opening, o.least_damping, o.jobs, units);
   const std::optional<Response> rank = response_of_key(o.rank);
   if (!rank) throw ScenarioError("--rank: expected one of " + response_keys() + ", got \"" + o.rank + "\"");
-  if (!(o.opening >= 0.0 && o.opening <= 1.0))
-    throw ScenarioError("--opening: must be from 0 to 1, got " + std::to_string(o.opening));
-  if (o.jobs < 1) throw ScenarioError("--jobs: must be at least 1, got " + std::to_string(o.jobs));
+  check_opening_and_jobs(o.opening, o.jobs);
   const Scenario scenario = load_study(o.scenario_path);
   SensitivityOptions options;
   options.load_opening = o.opening;
